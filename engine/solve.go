@@ -1,0 +1,132 @@
+package engine
+
+import (
+	"errors"
+	"math"
+)
+
+// Solver solves cases one after another, reusing its scratch space. A zero
+// Solver is ready to use. It is not safe for concurrent use: give each
+// goroutine its own.
+type Solver struct {
+	sc  scan
+	sol Solution
+}
+
+// Solve solves the case p into a new Solution. Invalid parameters give a
+// Solution with StatusInvalid and the *[ValidityError] as the error.
+func Solve(p Params) (*Solution, error) {
+	var s Solver
+	sol := new(Solution)
+	err := s.Solve(&p, sol)
+	return sol, err
+}
+
+// Solve solves the case p into sol, overwriting it. It returns the
+// validity error of p, if any; a counter-current initial state is no error
+// but sets sol.Status to StatusCounterCurrent. Solve does not allocate for
+// valid parameters.
+func (s *Solver) Solve(p *Params, sol *Solution) error {
+	sol.Params = *p
+	sol.n = 0
+	sol.Err = nil
+	if err := p.Validate(); err != nil {
+		sol.Status = StatusInvalid
+		sol.Err = err
+		return err
+	}
+	sol.Flow = NewFracFlow(p)
+	sol.Init = p[S1Init]
+	sol.FInit = sol.Flow.F(sol.Init)
+	if !(sol.FInit >= 0 && sol.FInit < 1) {
+		sol.Status = StatusCounterCurrent
+		sol.Inlet = math.NaN()
+		return nil
+	}
+	sol.Inlet = InletSaturation(p, &sol.Flow)
+	sol.Status = StatusOK
+	s.sc.envelope(sol)
+	return nil
+}
+
+// Result is the flat per-case output of [Solver.SolveCase], one field per
+// output column of DESIGN §2. RecoveryAt and CutAt hold one value per PVI
+// checkpoint. For a case that is not StatusOK every number is NaN except
+// GravityNumber, which is computed whenever the parameters are valid.
+type Result struct {
+	Status                 Status
+	Rule                   string // the failed validity rule when Status is StatusInvalid
+	GravityNumber          float64
+	FrontSaturation        float64
+	FrontSpeed             float64
+	BreakthroughPVI        float64
+	RecoveryAtBreakthrough float64
+	PVIAtCutLimit          float64
+	RecoveryAtCutLimit     float64
+	MaxRecovery            float64
+	RecoveryAt             []float64
+	CutAt                  []float64
+}
+
+// StatusText returns the text of the status column: "ok", or the reason
+// the case was rejected.
+func (r *Result) StatusText() string {
+	switch r.Status {
+	case StatusInvalid:
+		return "invalid: " + r.Rule
+	case StatusCounterCurrent:
+		return "counter-current initial state: f(s1_init) outside [0, 1)"
+	}
+	return r.Status.String()
+}
+
+// SolveCase solves p and fills r with the outputs at the PVI checkpoints
+// pvi and the cut limit. r.RecoveryAt and r.CutAt are resliced to len(pvi),
+// reusing their storage when it is large enough, so a Result reused across
+// calls makes SolveCase allocation-free for valid cases.
+func (s *Solver) SolveCase(p *Params, pvi []float64, cutLimit float64, r *Result) {
+	r.RecoveryAt = resize(r.RecoveryAt, len(pvi))
+	r.CutAt = resize(r.CutAt, len(pvi))
+	sol := &s.sol
+	err := s.Solve(p, sol)
+	r.Status = sol.Status
+	r.Rule = ""
+	r.GravityNumber = math.NaN()
+	if err == nil {
+		r.GravityNumber = sol.Flow.G
+	}
+	if sol.Status != StatusOK {
+		var ve *ValidityError
+		if errors.As(err, &ve) {
+			r.Rule = ve.Rule
+		}
+		nan := math.NaN()
+		r.FrontSaturation, r.FrontSpeed, r.BreakthroughPVI = nan, nan, nan
+		r.RecoveryAtBreakthrough, r.PVIAtCutLimit, r.RecoveryAtCutLimit, r.MaxRecovery = nan, nan, nan, nan
+		for i := range pvi {
+			r.RecoveryAt[i], r.CutAt[i] = nan, nan
+		}
+		return
+	}
+	r.FrontSaturation = sol.FrontSaturation()
+	r.FrontSpeed = sol.FrontSpeed()
+	r.BreakthroughPVI = 1 / r.FrontSpeed
+	r.RecoveryAtBreakthrough = r.BreakthroughPVI * (1 - sol.FInit) / (1 - sol.Init)
+	r.MaxRecovery = sol.MaxRecovery()
+	for i, t := range pvi {
+		r.RecoveryAt[i] = sol.Recovery(t)
+		_, r.CutAt[i] = sol.Outlet(t)
+	}
+	r.PVIAtCutLimit = sol.PVIAtCut(cutLimit)
+	r.RecoveryAtCutLimit = math.NaN()
+	if !math.IsNaN(r.PVIAtCutLimit) {
+		r.RecoveryAtCutLimit = sol.Recovery(r.PVIAtCutLimit)
+	}
+}
+
+func resize(x []float64, n int) []float64 {
+	if cap(x) < n {
+		return make([]float64, n)
+	}
+	return x[:n]
+}
