@@ -2,15 +2,39 @@ package engine
 
 import "math"
 
-// gridIntervals is the number of saturation intervals of the scan that
-// locates the envelope's pieces before they are refined exactly. The scan
-// only decides the pieces' order and rough ends; every end point is then
-// solved to machine precision on the analytic derivatives.
-const gridIntervals = 64
+// The scan that locates the envelope's pieces samples f on a grid in
+// normalised saturation Se: uniformIntervals even steps plus geometric
+// clusters of geomLevels points at Se = 2^−k and 1 − 2^−k (k = 7…30)
+// towards both ends, where power-law curves and extreme viscosity ratios
+// put their structure (kr1 ≈ R·kr2 happens near Se ≈ R^(1/n1) for small R).
+// The scan only decides the pieces' order and rough ends; every end point
+// is then solved to machine precision on the analytic derivatives.
+const (
+	uniformIntervals = 64
+	geomFirst        = 7
+	geomLevels       = 24
+	tableSize        = uniformIntervals - 1 + 2*geomLevels
+	// minTablePoints is the fewest table points inside [s1_init, S_b] for
+	// which the fixed table is used; a narrower range gets a grid of its own.
+	minTablePoints = 40
+	maxGrid        = tableSize + 2
+)
 
 // maxPieces bounds the pieces of one envelope: the scan's hull has at most
-// gridIntervals+1 edges, each giving at most one shock and one fan.
-const maxPieces = 2*gridIntervals + 4
+// maxGrid−1 edges, each giving at most one shock and one fan.
+const maxPieces = 2*maxGrid + 2
+
+// minShock is the narrowest shock kept, in saturation. A narrower chord
+// bridges a convex wiggle of f so small that the chord and f differ by less
+// than f''·minShock²/8 (about 1e-15 for f'' of order 1); it is left to the
+// fan around it, where the tangency equations are too ill-conditioned to
+// solve reliably.
+const minShock = 1e-7
+
+// minShockRise is the smallest rise of f across a kept shock: below it the
+// rise is rounding noise of f near a flat stretch (f ≈ 1 close to S_b), and
+// the shock would only matter after more than 1e12 pore volumes.
+const minShockRise = 1e-12
 
 // tangencyTol is the saturation tolerance to which tangency points and
 // outlet states are solved.
@@ -29,12 +53,41 @@ type Piece struct {
 	Shock            bool
 }
 
+// seTable is the fixed scan grid in Se with its logarithms, so that Corey
+// curves cost two exponentials a point.
+type seTable struct {
+	se, l1, l2 [tableSize]float64 // Se, ln Se, ln(1 − Se)
+}
+
+func (t *seTable) fill() {
+	k := 0
+	add := func(se, l1, l2 float64) {
+		t.se[k], t.l1[k], t.l2[k] = se, l1, l2
+		k++
+	}
+	for i := geomFirst + geomLevels - 1; i >= geomFirst; i-- {
+		se := math.Ldexp(1, -i)
+		add(se, -float64(i)*math.Ln2, math.Log1p(-se))
+	}
+	for j := 1; j < uniformIntervals; j++ {
+		se := float64(j) / uniformIntervals
+		add(se, math.Log(se), math.Log1p(-se))
+	}
+	for i := geomFirst; i < geomFirst+geomLevels; i++ {
+		d := math.Ldexp(1, -i)
+		add(1-d, math.Log1p(-d), -float64(i)*math.Ln2)
+	}
+}
+
 // scan holds the sampled f on the saturation grid and its upper hull.
 type scan struct {
-	x, y, dy [gridIntervals + 1]float64
-	hull     [gridIntervals + 1]int
+	table    *seTable
+	n        int // grid points; x[0] = s1_init, x[n−1] = S_b
+	x, y, dy [maxGrid]float64
+	d2y      [maxGrid]float64
+	hull     [maxGrid]int
 	nhull    int
-	chords   [gridIntervals + 1]chord
+	chords   [maxGrid]chord
 }
 
 // chord is a shock of the envelope between contact points p < q, found
@@ -44,29 +97,75 @@ type chord struct {
 	p, q float64
 }
 
+func (sc *scan) add(s, f, df, d2f float64) {
+	sc.x[sc.n], sc.y[sc.n], sc.dy[sc.n], sc.d2y[sc.n] = s, f, df, d2f
+	sc.n++
+}
+
 // build samples f over [a, b] and computes the upper hull of the samples.
-// The first sample is a itself; the others are evenly spaced over
-// [max(a, s1r), b], since f is zero below s1r.
+// The first sample is a itself and the last b, where f = 1 by the inlet
+// condition; in between, the grid covers Se in (Se(a), Se(b)), skipping
+// S < s1r where f is zero.
 func (sc *scan) build(ff *FracFlow, a, b float64) {
-	s1r, _ := ff.Rel.Residuals()
-	lo := max(a, s1r)
-	sc.x[0] = a
-	sc.y[0], sc.dy[0], _ = ff.Eval(a)
-	h := (b - lo) / gridIntervals
-	for k := 1; k <= gridIntervals; k++ {
-		s := lo + float64(k)*h
-		if k == gridIntervals {
-			s = b
-		}
-		sc.x[k] = s
-		sc.y[k], sc.dy[k], _ = ff.Eval(s)
+	if sc.table == nil {
+		sc.table = new(seTable)
+		sc.table.fill()
 	}
-	sc.y[gridIntervals] = 1 // the inlet flux condition f(S_b) = 1
+	s1r, s2r := ff.Rel.Residuals()
+	span := 1 - s1r - s2r
+	ua := max(0, (a-s1r)/span)
+	ub := min(1, (b-s1r)/span)
+	sc.n = 0
+	f, df, d2f := ff.Eval(a)
+	sc.add(a, f, df, d2f)
+
+	t := sc.table
+	lo, hi := 0, tableSize
+	for lo < tableSize && t.se[lo] <= ua {
+		lo++
+	}
+	for hi > lo && t.se[hi-1] >= ub {
+		hi--
+	}
+	corey, isCorey := ff.Rel.(Corey)
+	if hi-lo >= minTablePoints {
+		for k := lo; k < hi; k++ {
+			s := s1r + t.se[k]*span
+			if s <= a || s >= b {
+				continue
+			}
+			if isCorey {
+				f, df, d2f = ff.combine(corey.evalLog(t.se[k], t.l1[k], t.l2[k]))
+			} else {
+				f, df, d2f = ff.Eval(s)
+			}
+			sc.add(s, f, df, d2f)
+		}
+	} else {
+		// A narrow range: even steps over it, clustered geometrically
+		// towards an end that is a residual saturation.
+		w := ub - ua
+		if ua == 0 {
+			for i := geomFirst + geomLevels - 1; i >= geomFirst; i-- {
+				sc.addSe(ff, s1r, span, ua+w*math.Ldexp(1, -i), a, b)
+			}
+		}
+		for j := 1; j < uniformIntervals; j++ {
+			sc.addSe(ff, s1r, span, ua+w*float64(j)/uniformIntervals, a, b)
+		}
+		if ub == 1 {
+			for i := geomFirst; i < geomFirst+geomLevels; i++ {
+				sc.addSe(ff, s1r, span, ub-w*math.Ldexp(1, -i), a, b)
+			}
+		}
+	}
+	_, df, d2f = ff.Eval(b)
+	sc.add(b, 1, df, d2f) // the inlet flux condition f(S_b) = 1
 
 	// Upper hull by Andrew's monotone chain: drop a middle point that lies
 	// on or below the chord of its neighbours.
 	m := 0
-	for i := 0; i <= gridIntervals; i++ {
+	for i := 0; i < sc.n; i++ {
 		for m >= 2 {
 			o, p := sc.hull[m-2], sc.hull[m-1]
 			cross := (sc.x[p]-sc.x[o])*(sc.y[i]-sc.y[o]) - (sc.y[p]-sc.y[o])*(sc.x[i]-sc.x[o])
@@ -81,12 +180,34 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 	sc.nhull = m
 }
 
+// addSe adds the grid point at normalised saturation se when it lies
+// strictly inside (a, b).
+func (sc *scan) addSe(ff *FracFlow, s1r, span, se, a, b float64) {
+	s := s1r + se*span
+	if s <= a || s >= b || (sc.n > 0 && s <= sc.x[sc.n-1]) {
+		return
+	}
+	f, df, d2f := ff.Eval(s)
+	sc.add(s, f, df, d2f)
+}
+
 // fanEdge reports whether the hull edge between neighbouring grid points i
-// and i+1 is a stretch where f itself is the envelope: the secant's slope
-// lies between the end slopes, as it does where f is concave.
+// and i+1 is a stretch where f itself is the envelope: f is not convex at
+// either end and the secant's slope lies between the end slopes, as it does
+// where f is concave.
 func (sc *scan) fanEdge(i int) bool {
-	sec := (sc.y[i+1] - sc.y[i]) / (sc.x[i+1] - sc.x[i])
-	tol := 1e-9 * (math.Abs(sec) + 1)
+	dx := sc.x[i+1] - sc.x[i]
+	sec := (sc.y[i+1] - sc.y[i]) / dx
+	// The secant's rounding error grows as the points close in (the
+	// geometric clusters are 2^−30 apart at the ends), so the tolerance
+	// carries it along with a relative part.
+	const eps = 0x1p-52
+	tol := 1e-9*(math.Abs(sec)+1) +
+		8*eps*(math.Abs(sc.y[i])+math.Abs(sc.y[i+1])+math.Abs(sec)*(math.Abs(sc.x[i])+math.Abs(sc.x[i+1])))/dx
+	if sc.d2y[i]*dx > tol || sc.d2y[i+1]*dx > tol {
+		// f is convex at an end: a shock leaves or reaches it.
+		return false
+	}
 	return sc.dy[i] >= sec-tol && sc.dy[i+1] <= sec+tol
 }
 
@@ -114,7 +235,7 @@ func (sc *scan) envelope(sol *Solution) {
 			c = chord{i: prev.i, j: c.j, p: prev.p, q: c.q}
 			sc.refine(ff, &c)
 		}
-		if c.q-c.p > tangencyTol {
+		if c.q-c.p > minShock && sc.fAt(ff, c.q)-sc.fAt(ff, c.p) > minShockRise {
 			sc.chords[nc] = c
 			nc++
 		}
@@ -142,6 +263,12 @@ func (sc *scan) envelope(sol *Solution) {
 // Jacobian of the two tangency conditions is diagonal there because
 // f'(p) = f'(q)), so a few rounds converge.
 func (sc *scan) refine(ff *FracFlow, c *chord) {
+	if c.i == 0 {
+		// A shock that may leave the initial state: start from it, since
+		// the tangency can lie anywhere inside the first grid interval.
+		c.p = sc.x[0]
+		c.q = sc.upperEnd(ff, c.j, c.p)
+	}
 	for range 8 {
 		p := sc.lowerEnd(ff, c.i, c.q)
 		q := sc.upperEnd(ff, c.j, p)
@@ -153,82 +280,165 @@ func (sc *scan) refine(ff *FracFlow, c *chord) {
 	}
 }
 
+// snapTol is the distance in saturation within which a contact point is
+// taken to be the end state itself: closer than this, f and its
+// derivatives cannot tell the two apart in double precision.
+const snapTol = 1e-13
+
 // lowerEnd returns the contact point p < q of the supporting line through
 // (q, f(q)) on its left: the p that minimises the chord slope
 // (f(q) − f(p))/(q − p). Its derivative has the sign of
 // U(p) = f(q) − f(p) − f'(p)(q − p), negative left of the tangency and
 // positive right of it, so p = a when U(a) ≥ 0 and otherwise U's root,
-// bracketed on the grid near index i.
+// bracketed on the grid near index i. When U < 0 right up to q the slope
+// falls all the way and p = q: no shock ends at q from the left.
 func (sc *scan) lowerEnd(ff *FracFlow, i int, q float64) float64 {
-	fq := ff.F(q)
-	if q == sc.x[gridIntervals] {
-		fq = 1
+	a := sc.x[0]
+	fq := sc.fAt(ff, q)
+	ug := func(k int) float64 { return fq - sc.y[k] - sc.dy[k]*(q-sc.x[k]) }
+	u := func(p float64) (float64, float64) {
+		f, df, d2f := ff.Eval(p)
+		if p == a {
+			f = sc.y[0]
+		}
+		return fq - f - df*(q-p), -d2f * (q - p)
 	}
-	u := func(k int) float64 { return fq - sc.y[k] - sc.dy[k]*(q-sc.x[k]) }
-	k := min(i, gridIntervals)
+	last := sc.n - 1
+	k := min(i, last)
 	for k > 0 && sc.x[k] >= q {
 		k--
 	}
-	var lo, hi int
-	if u(k) < 0 {
-		for k+1 <= gridIntervals && sc.x[k+1] < q && u(k+1) < 0 {
+	var lo, hi, ulo, uhi float64
+	if ug(k) < 0 {
+		for k+1 <= last && sc.x[k+1] < q && ug(k+1) < 0 {
 			k++
 		}
-		if k+1 > gridIntervals || sc.x[k+1] >= q {
-			return sc.x[k]
+		lo, ulo = sc.x[k], ug(k)
+		if k+1 <= last && sc.x[k+1] < q {
+			hi, uhi = sc.x[k+1], ug(k+1)
+		} else {
+			// The root, if any, lies between the last grid point and q,
+			// where U > 0 only close to q: probe towards q.
+			z, uz, ok := probe(u, q, lo, ulo)
+			if !ok {
+				return q
+			}
+			hi, uhi = z, uz
+			lo, ulo = probeLast(u, q, lo, z, ulo)
 		}
-		lo, hi = k, k+1
 	} else {
-		for k > 0 && u(k) >= 0 {
+		for k > 0 && ug(k) >= 0 {
 			k--
 		}
-		if k == 0 && u(0) >= 0 {
-			return sc.x[0]
+		if k == 0 && ug(0) >= 0 {
+			return a
 		}
-		lo, hi = k, k+1
+		lo, hi, ulo, uhi = sc.x[k], sc.x[k+1], ug(k), ug(k+1)
 	}
-	return solveBracket(sc.x[lo], sc.x[hi], u(lo), u(hi), func(p float64) (float64, float64) {
-		f, df, d2f := ff.Eval(p)
-		return fq - f - df*(q-p), -d2f * (q - p)
-	})
+	p := solveBracket(lo, hi, ulo, uhi, u)
+	if p-a < snapTol {
+		return a
+	}
+	return p
 }
 
 // upperEnd returns the contact point q > p of the supporting line through
 // (p, f(p)) on its right: the q that maximises the chord slope. Its
 // derivative has the sign of T(q) = f'(q)(q − p) − (f(q) − f(p)), positive
 // left of the tangency, so q = S_b when T(S_b) ≥ 0 and otherwise T's root.
+// When T ≤ 0 right from p the chord slope only falls and q = p: no shock
+// leaves p.
 func (sc *scan) upperEnd(ff *FracFlow, j int, p float64) float64 {
-	fp := ff.F(p)
-	if p == sc.x[0] {
-		fp = sc.y[0]
+	last := sc.n - 1
+	b := sc.x[last]
+	fp := sc.fAt(ff, p)
+	tg := func(k int) float64 { return sc.dy[k]*(sc.x[k]-p) - (sc.y[k] - fp) }
+	t := func(q float64) (float64, float64) {
+		f, df, d2f := ff.Eval(q)
+		if q == b {
+			f = 1
+		}
+		return df*(q-p) - (f - fp), d2f * (q - p)
 	}
-	t := func(k int) float64 { return sc.dy[k]*(sc.x[k]-p) - (sc.y[k] - fp) }
 	k := max(j, 0)
-	for k < gridIntervals && sc.x[k] <= p {
+	for k < last && sc.x[k] <= p {
 		k++
 	}
-	var lo, hi int
-	if t(k) > 0 {
-		for k < gridIntervals && t(k) > 0 {
+	var lo, hi, tlo, thi float64
+	if tg(k) > 0 {
+		for k < last && tg(k) > 0 {
 			k++
 		}
-		if k == gridIntervals && t(k) > 0 {
-			return sc.x[gridIntervals]
+		if k == last && tg(k) > 0 {
+			return b
 		}
-		lo, hi = k-1, k
+		lo, hi, tlo, thi = sc.x[k-1], sc.x[k], tg(k-1), tg(k)
 	} else {
-		for k-1 >= 0 && sc.x[k-1] > p && t(k-1) <= 0 {
+		for k-1 >= 0 && sc.x[k-1] > p && tg(k-1) <= 0 {
 			k--
 		}
-		if k-1 < 0 || sc.x[k-1] <= p {
-			return sc.x[k]
+		hi, thi = sc.x[k], tg(k)
+		if k-1 >= 0 && sc.x[k-1] > p {
+			lo, tlo = sc.x[k-1], tg(k-1)
+		} else {
+			// The root, if any, lies between p and the first grid point,
+			// where T > 0 only close to p (or to s1r, below which f is
+			// flat): probe towards it.
+			s1r, _ := ff.Rel.Residuals()
+			z, tz, ok := probe(t, max(p, s1r), hi, thi)
+			if !ok {
+				return p
+			}
+			lo, tlo = z, tz
+			hi, thi = probeLast(t, p, hi, z, thi)
 		}
-		lo, hi = k-1, k
 	}
-	return solveBracket(sc.x[lo], sc.x[hi], t(lo), t(hi), func(q float64) (float64, float64) {
-		f, df, d2f := ff.Eval(q)
-		return df*(q-p) - (f - fp), d2f * (q - p)
-	})
+	q := solveBracket(lo, hi, tlo, thi, t)
+	if b-q < snapTol {
+		return b
+	}
+	return q
+}
+
+// probe looks for a point z between end and from where g changes sign
+// from its value gfrom at from, trying from + (end − from)/2^i for growing
+// i until z is within snapTol of end.
+func probe(g func(float64) (float64, float64), end, from, gfrom float64) (z, gz float64, ok bool) {
+	d := from - end
+	for range 60 {
+		d /= 2
+		if math.Abs(d) < snapTol {
+			return 0, 0, false
+		}
+		z = end + d
+		if gz, _ = g(z); (gz > 0) != (gfrom > 0) && gz != 0 {
+			return z, gz, true
+		}
+	}
+	return 0, 0, false
+}
+
+// probeLast returns the probe point just before z on the way from from to
+// end (twice as far from end as z), with g there: the other end of the
+// bracket that probe found.
+func probeLast(g func(float64) (float64, float64), end, from, z, gfrom float64) (float64, float64) {
+	w := end + 2*(z-end)
+	if math.Abs(w-end) >= math.Abs(from-end) {
+		return from, gfrom
+	}
+	gw, _ := g(w)
+	return w, gw
+}
+
+// fAt returns f at a contact point, exact at the grid's end states.
+func (sc *scan) fAt(ff *FracFlow, s float64) float64 {
+	switch s {
+	case sc.x[0]:
+		return sc.y[0]
+	case sc.x[sc.n-1]:
+		return 1
+	}
+	return ff.F(s)
 }
 
 // solveBracket returns a root of g in [lo, hi], where glo = g(lo) and

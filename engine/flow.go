@@ -82,7 +82,11 @@ func (ff *FracFlow) F(s float64) float64 {
 // are. Where a curve's slope is infinite (an exponent below one at its end
 // point) the derivatives are the one-sided limits, ±Inf.
 func (ff *FracFlow) Eval(s float64) (f, df, d2f float64) {
-	v := ff.Rel.Eval(s)
+	return ff.combine(ff.Rel.Eval(s))
+}
+
+// combine evaluates f and its derivatives from relative permeabilities.
+func (ff *FracFlow) combine(v RelPermValue) (f, df, d2f float64) {
 	g, r := ff.G, ff.R
 	n := v.Kr1 * (1 - g*v.Kr2)
 	d := v.Kr1 + r*v.Kr2

@@ -50,33 +50,47 @@ func (c Corey) Residuals() (s1r, s2r float64) { return c.S1r, c.S2r }
 func (c Corey) Eval(s float64) RelPermValue {
 	span := 1 - c.S1r - c.S2r
 	se := (s - c.S1r) / span
+	// The end points are compared in saturation, so that S = s1r and
+	// S = 1 − s2r, written the same way by callers, hit them exactly.
 	var v RelPermValue
-	switch {
-	case se < 0:
+	switch top := 1 - c.S2r; {
+	case s < c.S1r:
 		v.Kr2 = c.Kr2Max
-	case se > 1:
+	case s > top:
 		v.Kr1 = c.Kr1Max
-	case se == 0:
+	case s == c.S1r || se <= 0:
 		v.Kr2 = c.Kr2Max
 		v.DKr1, v.D2Kr1 = powEndSlope(c.Kr1Max, c.N1, span)
 		v.DKr2 = -c.Kr2Max * c.N2 / span
 		v.D2Kr2 = c.Kr2Max * c.N2 * (c.N2 - 1) / (span * span)
-	case se == 1:
+	case s == top || se >= 1:
 		v.Kr1 = c.Kr1Max
 		v.DKr1 = c.Kr1Max * c.N1 / span
 		v.D2Kr1 = c.Kr1Max * c.N1 * (c.N1 - 1) / (span * span)
 		d, dd := powEndSlope(c.Kr2Max, c.N2, span)
 		v.DKr2, v.D2Kr2 = -d, dd
 	default:
-		p1 := pow(se, c.N1)
-		p2 := pow(1-se, c.N2)
-		v.Kr1 = c.Kr1Max * p1
-		v.Kr2 = c.Kr2Max * p2
-		v.DKr1 = v.Kr1 * c.N1 / (se * span)
-		v.DKr2 = -v.Kr2 * c.N2 / ((1 - se) * span)
-		v.D2Kr1 = v.DKr1 * (c.N1 - 1) / (se * span)
-		v.D2Kr2 = -v.DKr2 * (c.N2 - 1) / ((1 - se) * span)
+		v = c.inner(se, pow(se, c.N1), pow(1-se, c.N2), span)
 	}
+	return v
+}
+
+// evalLog is Eval at an interior Se given ln Se and ln(1 − Se), for the
+// scan's fixed grid.
+func (c Corey) evalLog(se, l1, l2 float64) RelPermValue {
+	return c.inner(se, powLog(se, l1, c.N1), powLog(1-se, l2, c.N2), 1-c.S1r-c.S2r)
+}
+
+// inner returns the curves for 0 < se < 1 from p1 = se^N1 and
+// p2 = (1 − se)^N2.
+func (c Corey) inner(se, p1, p2, span float64) RelPermValue {
+	var v RelPermValue
+	v.Kr1 = c.Kr1Max * p1
+	v.Kr2 = c.Kr2Max * p2
+	v.DKr1 = v.Kr1 * c.N1 / (se * span)
+	v.DKr2 = -v.Kr2 * c.N2 / ((1 - se) * span)
+	v.D2Kr1 = v.DKr1 * (c.N1 - 1) / (se * span)
+	v.D2Kr2 = -v.DKr2 * (c.N2 - 1) / ((1 - se) * span)
 	return v
 }
 
@@ -113,4 +127,13 @@ func pow(x, y float64) float64 {
 		return x2 * x2
 	}
 	return math.Exp(y * math.Log(x))
+}
+
+// powLog returns x^y given lx = ln x, with the same integer shortcuts as pow.
+func powLog(x, lx, y float64) float64 {
+	switch y {
+	case 1, 2, 3, 4:
+		return pow(x, y)
+	}
+	return math.Exp(y * lx)
 }

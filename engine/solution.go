@@ -165,6 +165,10 @@ func (sol *Solution) fanState(p *Piece, xi float64) (s, f float64) {
 		_, df, d2f := sol.Flow.Eval(s)
 		return df - xi, d2f
 	})
+	if p.Hi == sol.Inlet && sol.Inlet-s < snapTol {
+		// Within rounding of S_b, where f'' may be huge: take the end state.
+		return sol.Inlet, 1
+	}
 	return s, sol.Flow.F(s)
 }
 
@@ -201,7 +205,9 @@ func (sol *Solution) AverageSaturation(tD float64) float64 {
 		return sol.Init + tD*(1-sol.FInit)
 	}
 	s, f := sol.State(1 / tD)
-	return s + tD*(1-f)
+	// S̄ ≤ S_b holds exactly (the envelope is concave and F(S_b) = 1); the
+	// bound guards against rounding of f just below S_b times a large tD.
+	return min(s+tD*(1-f), sol.Inlet)
 }
 
 // Recovery returns the fraction of the initial phase 2 produced after tD
