@@ -26,7 +26,7 @@ const maxPieces = 2*maxGrid + 2
 
 // minShock is the narrowest shock kept, in saturation. A narrower chord
 // bridges a convex wiggle of f so small that the chord and f differ by less
-// than f''·minShock²/8 (about 1e-15 for f'' of order 1); it is left to the
+// than f”·minShock²/8 (about 1e-15 for f” of order 1); it is left to the
 // fan around it, where the tangency equations are too ill-conditioned to
 // solve reliably.
 const minShock = 1e-7

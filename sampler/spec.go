@@ -99,6 +99,8 @@ func (s *Spec) Validate() []FieldError {
 		}
 		if okMin && okMax && !(s.Min < s.Max) {
 			add("max", "must be greater than min (%g ≤ %g)", s.Max, s.Min)
+		} else if okMin && okMax && math.IsInf(s.Max-s.Min, 0) {
+			add("max", "max − min must be a finite number (%g − %g overflows)", s.Max, s.Min)
 		}
 	case Triangular, PERT:
 		okMin := s.HasMin && finite("min", s.Min)
@@ -112,13 +114,17 @@ func (s *Spec) Validate() []FieldError {
 		}
 		if okMin && okMax && !(s.Min < s.Max) {
 			add("max", "must be greater than min (%g ≤ %g)", s.Max, s.Min)
+		} else if okMin && okMax && math.IsInf(s.Max-s.Min, 0) {
+			add("max", "max − min must be a finite number (%g − %g overflows)", s.Max, s.Min)
 		} else if okMin && okMax && okMode && (s.Mode < s.Min || s.Mode > s.Max) {
 			add("mode", "must lie in [min, max] = [%g, %g], got %g", s.Min, s.Max, s.Mode)
 		}
 	case Normal, LogNormal:
 		okMean := finite("mean", s.Mean)
-		if finite("sd", s.SD) && !(s.SD > 0) {
+		okSD := finite("sd", s.SD)
+		if okSD && !(s.SD > 0) {
 			add("sd", "must be positive, got %g", s.SD)
+			okSD = false
 		}
 		if s.Kind == LogNormal && okMean && !(s.Mean > 0) {
 			add("mean", "a lognormal variable's mean must be positive, got %g", s.Mean)
@@ -128,8 +134,24 @@ func (s *Spec) Validate() []FieldError {
 		if s.HasMin && s.HasMax && okMin && okMax && !(s.Min < s.Max) {
 			add("max", "must be greater than min (%g ≤ %g)", s.Max, s.Min)
 		}
+		okMax = okMax && !(s.HasMin && s.HasMax && okMin && !(s.Min < s.Max))
 		if s.Kind == LogNormal && s.HasMax && okMax && !(s.Max > 0) {
 			add("max", "a lognormal variable is positive: max must be > 0, got %g", s.Max)
+			okMax = false
+		}
+		// The truncation range must hold a probability that floating point can
+		// represent and invert accurately (about 37 standard deviations into a
+		// tail); anything beyond that is a typing mistake, not a distribution.
+		if okMean && okSD && okMin && okMax && (s.HasMin || s.HasMax) &&
+			(s.Kind == Normal || s.Mean > 0) {
+			if nd := newNormalDist(*s); !(nd.mass >= minTruncMass) {
+				field := "min"
+				if !s.HasMin || (s.HasMax && nd.b < 0) {
+					field = "max"
+				}
+				add(field, "the truncation range [%s, %s] lies too far in the tail: it holds probability %.3g (< %g) of %s(mean %g, sd %g)",
+					boundText(s.HasMin, s.Min, "-inf"), boundText(s.HasMax, s.Max, "+inf"), nd.mass, minTruncMass, s.Kind, s.Mean, s.SD)
+			}
 		}
 	case Discrete:
 		if len(s.Values) == 0 {
