@@ -1,18 +1,25 @@
 package engine
 
-import "math"
+import (
+	"math"
+	"sort"
+)
 
 // The scan that locates the envelope's pieces samples f on a grid in
 // normalised saturation Se: uniformIntervals even steps plus geometric
-// clusters of geomLevels points at Se = 2^−k and 1 − 2^−k (k = 7…30)
+// clusters of geomLevels points at Se = 2^−k and 1 − 2^−k (k = 7, 9, …, 29)
 // towards both ends, where power-law curves and extreme viscosity ratios
 // put their structure (kr1 ≈ R·kr2 happens near Se ≈ R^(1/n1) for small R).
+// The clusters step by a factor of four, which resolves power laws
+// x^n at every scale for the exponents allowed (a factor of four in x is a
+// factor of 2 or more in x^n for n ≥ 0.5).
 // The scan only decides the pieces' order and rough ends; every end point
 // is then solved to machine precision on the analytic derivatives.
 const (
 	uniformIntervals = 64
 	geomFirst        = 7
-	geomLevels       = 24
+	geomLevels       = 12
+	geomStep         = 2 // in powers of two
 	tableSize        = uniformIntervals - 1 + 2*geomLevels
 	// minTablePoints is the fewest table points inside [s1_init, S_b] for
 	// which the fixed table is used; a narrower range gets a grid of its own.
@@ -57,15 +64,17 @@ type Piece struct {
 // curves cost two exponentials a point.
 type seTable struct {
 	se, l1, l2 [tableSize]float64 // Se, ln Se, ln(1 − Se)
+	inv1, inv2 [tableSize]float64 // 1/Se, 1/(1 − Se)
 }
 
 func (t *seTable) fill() {
 	k := 0
 	add := func(se, l1, l2 float64) {
 		t.se[k], t.l1[k], t.l2[k] = se, l1, l2
+		t.inv1[k], t.inv2[k] = 1/se, 1/(1-se)
 		k++
 	}
-	for i := geomFirst + geomLevels - 1; i >= geomFirst; i-- {
+	for i := geomFirst + geomStep*(geomLevels-1); i >= geomFirst; i -= geomStep {
 		se := math.Ldexp(1, -i)
 		add(se, -float64(i)*math.Ln2, math.Log1p(-se))
 	}
@@ -73,7 +82,7 @@ func (t *seTable) fill() {
 		se := float64(j) / uniformIntervals
 		add(se, math.Log(se), math.Log1p(-se))
 	}
-	for i := geomFirst; i < geomFirst+geomLevels; i++ {
+	for i := geomFirst; i < geomFirst+geomStep*geomLevels; i += geomStep {
 		d := math.Ldexp(1, -i)
 		add(1-d, math.Log1p(-d), -float64(i)*math.Ln2)
 	}
@@ -127,7 +136,14 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 	for hi > lo && t.se[hi-1] >= ub {
 		hi--
 	}
-	corey, isCorey := ff.Rel.(Corey)
+	var corey Corey
+	isCorey := false
+	switch c := ff.Rel.(type) {
+	case Corey:
+		corey, isCorey = c, true
+	case *Corey:
+		corey, isCorey = *c, true
+	}
 	if hi-lo >= minTablePoints {
 		for k := lo; k < hi; k++ {
 			s := s1r + t.se[k]*span
@@ -135,7 +151,7 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 				continue
 			}
 			if isCorey {
-				f, df, d2f = ff.combine(corey.evalLog(t.se[k], t.l1[k], t.l2[k]))
+				f, df, d2f = ff.combine(corey.evalLog(t.se[k], t.l1[k], t.l2[k], t.inv1[k], t.inv2[k]))
 			} else {
 				f, df, d2f = ff.Eval(s)
 			}
@@ -146,7 +162,7 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 		// towards an end that is a residual saturation.
 		w := ub - ua
 		if ua == 0 {
-			for i := geomFirst + geomLevels - 1; i >= geomFirst; i-- {
+			for i := geomFirst + geomStep*(geomLevels-1); i >= geomFirst; i -= geomStep {
 				sc.addSe(ff, s1r, span, ua+w*math.Ldexp(1, -i), a, b)
 			}
 		}
@@ -154,7 +170,7 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 			sc.addSe(ff, s1r, span, ua+w*float64(j)/uniformIntervals, a, b)
 		}
 		if ub == 1 {
-			for i := geomFirst; i < geomFirst+geomLevels; i++ {
+			for i := geomFirst; i < geomFirst+geomStep*geomLevels; i += geomStep {
 				sc.addSe(ff, s1r, span, ub-w*math.Ldexp(1, -i), a, b)
 			}
 		}
@@ -223,6 +239,10 @@ func (sc *scan) envelope(sol *Solution) {
 	for k := 0; k+1 < sc.nhull; k++ {
 		i, j := sc.hull[k], sc.hull[k+1]
 		if j == i+1 && sc.fanEdge(i) {
+			continue
+		}
+		if sc.y[j]-sc.y[i] <= minShockRise {
+			// Rounding noise where f is flat (f ≈ 1 near S_b).
 			continue
 		}
 		c := chord{i: i, j: j, p: sc.x[i], q: sc.x[j]}
@@ -430,6 +450,41 @@ func probeLast(g func(float64) (float64, float64), end, from, z, gfrom float64) 
 	return w, gw
 }
 
+// narrow shrinks the bracket [lo, hi] of a root of a function monotone on
+// it, whose values at lo and hi are glo and ghi, to the grid interval where
+// its grid values g(k) change sign. Grid values are the scan's, so the
+// narrowed ends keep a sign change only approximately; a grid point whose
+// sign disagrees with its neighbour's end is simply not used.
+func (sc *scan) narrow(lo, hi, glo, ghi float64, g func(k int) float64) (float64, float64, float64, float64) {
+	// Grid points strictly inside (lo, hi).
+	i := sort.SearchFloat64s(sc.x[:sc.n], lo)
+	for i < sc.n && sc.x[i] <= lo {
+		i++
+	}
+	j := sort.SearchFloat64s(sc.x[:sc.n], hi) - 1
+	if i > j {
+		return lo, hi, glo, ghi
+	}
+	neg := glo < 0
+	// Binary search for the last inside point whose sign matches lo's.
+	a, b := i, j+1
+	for a < b {
+		m := (a + b) / 2
+		if (g(m) < 0) == neg {
+			a = m + 1
+		} else {
+			b = m
+		}
+	}
+	if a > i {
+		lo, glo = sc.x[a-1], g(a-1)
+	}
+	if a <= j {
+		hi, ghi = sc.x[a], g(a)
+	}
+	return lo, hi, glo, ghi
+}
+
 // fAt returns f at a contact point, exact at the grid's end states.
 func (sc *scan) fAt(ff *FracFlow, s float64) float64 {
 	switch s {
@@ -446,17 +501,33 @@ func (sc *scan) fAt(ff *FracFlow, s float64) float64 {
 // derivative. Newton steps are taken while they stay inside the shrinking
 // bracket; otherwise the step is a bisection, so the iteration cannot fail.
 func solveBracket(lo, hi, glo, ghi float64, g func(float64) (float64, float64)) float64 {
+	x, _, _ := solveBracketAt(lo, hi, glo, ghi, g)
+	return x
+}
+
+// newtonAccept is the Newton step below which the next iterate is taken
+// without another evaluation: Newton's error after a step of size h is of
+// order (g″/g′)·h², far below tangencyTol for h ≤ 1e-12 unless g″/g′ is
+// huge (near a residual with an exponent below one), where the step is
+// not Newton-small anyway.
+const newtonAccept = 1e-12
+
+// solveBracketAt is solveBracket that also returns the last point
+// evaluated, xe, and the derivative there, dge; the root x differs from xe
+// by at most one accepted Newton step, so callers can extrapolate values
+// at x from xe to first order instead of evaluating again.
+func solveBracketAt(lo, hi, glo, ghi float64, g func(float64) (float64, float64)) (x, xe, dge float64) {
 	if glo == 0 {
-		return lo
+		return lo, lo, math.NaN()
 	}
 	if ghi == 0 {
-		return hi
+		return hi, hi, math.NaN()
 	}
 	if glo > 0 {
 		// Orient so that g(lo) < 0 < g(hi); lo may then exceed hi.
 		lo, hi, glo, ghi = hi, lo, ghi, glo
 	}
-	x := 0.5 * (lo + hi)
+	x = 0.5 * (lo + hi)
 	if xs := lo - glo*(hi-lo)/(ghi-glo); xs > math.Min(lo, hi) && xs < math.Max(lo, hi) {
 		// Start from the secant through the bracket ends.
 		x = xs
@@ -464,21 +535,23 @@ func solveBracket(lo, hi, glo, ghi float64, g func(float64) (float64, float64)) 
 	for range 100 {
 		gx, dgx := g(x)
 		if gx == 0 || math.IsNaN(gx) {
-			return x
+			return x, x, dgx
 		}
 		if gx < 0 {
 			lo = x
 		} else {
 			hi = x
 		}
-		next := x - gx/dgx
-		if !(next > math.Min(lo, hi) && next < math.Max(lo, hi)) {
+		step := gx / dgx
+		next := x - step
+		newton := next > math.Min(lo, hi) && next < math.Max(lo, hi)
+		if !newton {
 			next = 0.5 * (lo + hi)
 		}
-		if math.Abs(next-x) <= tangencyTol || math.Abs(hi-lo) <= tangencyTol {
-			return next
+		if math.Abs(next-x) <= tangencyTol || math.Abs(hi-lo) <= tangencyTol || (newton && math.Abs(step) <= newtonAccept) {
+			return next, x, dgx
 		}
 		x = next
 	}
-	return x
+	return x, x, math.NaN()
 }

@@ -57,11 +57,11 @@ type FracFlow struct {
 // NewFracFlow returns the Corey fractional flow of the case p. It does not
 // validate p; see [Params.Validate].
 func NewFracFlow(p *Params) FracFlow {
-	return FracFlow{
-		Rel: Corey{S1r: p[S1r], S2r: p[S2r], Kr1Max: p[Kr1Max], Kr2Max: p[Kr2Max], N1: p[N1], N2: p[N2]},
-		R:   p[Mu1CP] / p[Mu2CP],
-		G:   GravityNumber(p),
-	}
+	return FracFlow{Rel: coreyOf(p), R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
+}
+
+func coreyOf(p *Params) Corey {
+	return Corey{S1r: p[S1r], S2r: p[S2r], Kr1Max: p[Kr1Max], Kr2Max: p[Kr2Max], N1: p[N1], N2: p[N2]}
 }
 
 // F returns f(S).
@@ -89,17 +89,25 @@ func (ff *FracFlow) Eval(s float64) (f, df, d2f float64) {
 func (ff *FracFlow) combine(v RelPermValue) (f, df, d2f float64) {
 	g, r := ff.G, ff.R
 	n := v.Kr1 * (1 - g*v.Kr2)
-	d := v.Kr1 + r*v.Kr2
-	f = n / d
+	inv := 1 / (v.Kr1 + r*v.Kr2)
+	f = n * inv
 	if math.IsInf(v.DKr1, 0) || math.IsInf(v.DKr2, 0) {
 		return f, ff.infSlope(v), math.NaN()
 	}
 	dn := v.DKr1*(1-g*v.Kr2) - g*v.Kr1*v.DKr2
 	dd := v.DKr1 + r*v.DKr2
-	df = (dn - f*dd) / d
+	df = (dn - f*dd) * inv
+	switch {
+	case math.IsInf(v.D2Kr1, 0):
+		// At Se = 0 with 1 < n1 < 2: f'' = kr1''(1 − G kr2)/D.
+		return f, df, math.Copysign(math.Inf(1), 1-g*v.Kr2)
+	case math.IsInf(v.D2Kr2, 0):
+		// At Se = 1 with 1 < n2 < 2: f'' = −(G kr1 + R) kr2''/D.
+		return f, df, math.Copysign(math.Inf(1), -(g*v.Kr1 + r))
+	}
 	d2n := v.D2Kr1*(1-g*v.Kr2) - 2*g*v.DKr1*v.DKr2 - g*v.Kr1*v.D2Kr2
 	d2d := v.D2Kr1 + r*v.D2Kr2
-	d2f = (d2n - f*d2d - 2*df*dd) / d
+	d2f = (d2n - f*d2d - 2*df*dd) * inv
 	return f, df, d2f
 }
 

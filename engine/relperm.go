@@ -75,22 +75,32 @@ func (c Corey) Eval(s float64) RelPermValue {
 	return v
 }
 
-// evalLog is Eval at an interior Se given ln Se and ln(1 − Se), for the
-// scan's fixed grid.
-func (c Corey) evalLog(se, l1, l2 float64) RelPermValue {
-	return c.inner(se, powLog(se, l1, c.N1), powLog(1-se, l2, c.N2), 1-c.S1r-c.S2r)
+// evalLog is Eval at an interior Se given ln Se, ln(1 − Se), 1/Se and
+// 1/(1 − Se), for the scan's fixed grid.
+func (c Corey) evalLog(se, l1, l2, inv1, inv2 float64) RelPermValue {
+	ispan := 1 / (1 - c.S1r - c.S2r)
+	var v RelPermValue
+	v.Kr1 = c.Kr1Max * powLog(se, l1, c.N1)
+	v.Kr2 = c.Kr2Max * powLog(1-se, l2, c.N2)
+	a, b := inv1*ispan, inv2*ispan
+	v.DKr1 = v.Kr1 * c.N1 * a
+	v.DKr2 = -v.Kr2 * c.N2 * b
+	v.D2Kr1 = v.DKr1 * (c.N1 - 1) * a
+	v.D2Kr2 = -v.DKr2 * (c.N2 - 1) * b
+	return v
 }
 
 // inner returns the curves for 0 < se < 1 from p1 = se^N1 and
 // p2 = (1 − se)^N2.
 func (c Corey) inner(se, p1, p2, span float64) RelPermValue {
 	var v RelPermValue
+	a, b := 1/(se*span), 1/((1-se)*span)
 	v.Kr1 = c.Kr1Max * p1
 	v.Kr2 = c.Kr2Max * p2
-	v.DKr1 = v.Kr1 * c.N1 / (se * span)
-	v.DKr2 = -v.Kr2 * c.N2 / ((1 - se) * span)
-	v.D2Kr1 = v.DKr1 * (c.N1 - 1) / (se * span)
-	v.D2Kr2 = -v.DKr2 * (c.N2 - 1) / ((1 - se) * span)
+	v.DKr1 = v.Kr1 * c.N1 * a
+	v.DKr2 = -v.Kr2 * c.N2 * b
+	v.D2Kr1 = v.DKr1 * (c.N1 - 1) * a
+	v.D2Kr2 = -v.DKr2 * (c.N2 - 1) * b
 	return v
 }
 

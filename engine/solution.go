@@ -43,6 +43,7 @@ func (s Status) String() string {
 // reused; its methods do not allocate.
 type Solution struct {
 	Flow   FracFlow
+	corey  Corey // the curves Flow.Rel points at, kept here so Solve does not allocate
 	Params Params
 	Init   float64 // s1_init
 	Inlet  float64 // S_b
@@ -128,6 +129,12 @@ func (sol *Solution) MaxRecovery() float64 {
 // slowest speed, the inlet state. Exactly at a shock's speed it returns the
 // state behind the shock.
 func (sol *Solution) State(xi float64) (s, f float64) {
+	return sol.state(xi, nil)
+}
+
+// state is State, with the scan that built the envelope as an optional
+// hint for the root brackets.
+func (sol *Solution) state(xi float64, sc *scan) (s, f float64) {
 	if sol.n == 0 {
 		return math.NaN(), math.NaN()
 	}
@@ -143,7 +150,7 @@ func (sol *Solution) State(xi float64) (s, f float64) {
 			continue
 		}
 		if xi >= p.SpeedHi {
-			return sol.fanState(p, xi)
+			return sol.fanState(p, xi, sc)
 		}
 	}
 	return sol.Inlet, 1
@@ -153,21 +160,36 @@ func (sol *Solution) State(xi float64) (s, f float64) {
 func (p *Piece) Speed() float64 { return p.SpeedLo }
 
 // fanState solves f'(S) = xi on the fan p, where f' falls from SpeedLo to
-// SpeedHi.
-func (sol *Solution) fanState(p *Piece, xi float64) (s, f float64) {
+// SpeedHi. With a scan, the bracket is first narrowed to the grid interval
+// whose end slopes straddle xi.
+func (sol *Solution) fanState(p *Piece, xi float64, sc *scan) (s, f float64) {
 	switch {
 	case xi >= p.SpeedLo:
 		return p.Lo, p.FLo
 	case xi <= p.SpeedHi:
 		return p.Hi, p.FHi
 	}
-	s = solveBracket(p.Lo, p.Hi, p.SpeedLo-xi, p.SpeedHi-xi, func(s float64) (float64, float64) {
-		_, df, d2f := sol.Flow.Eval(s)
+	lo, hi, glo, ghi := p.Lo, p.Hi, p.SpeedLo-xi, p.SpeedHi-xi
+	if sc != nil {
+		lo, hi, glo, ghi = sc.narrow(lo, hi, glo, ghi, func(k int) float64 { return sc.dy[k] - xi })
+	}
+	var fe float64 // f at the last point evaluated
+	s, se, _ := solveBracketAt(lo, hi, glo, ghi, func(s float64) (float64, float64) {
+		f, df, d2f := sol.Flow.Eval(s)
+		fe = f
 		return df - xi, d2f
 	})
 	if p.Hi == sol.Inlet && sol.Inlet-s < snapTol {
 		// Within rounding of S_b, where f'' may be huge: take the end state.
 		return sol.Inlet, 1
+	}
+	if s == se {
+		return s, fe
+	}
+	if math.Abs(s-se) <= newtonAccept {
+		// One accepted Newton step from se: f(s) = f(se) + f'(se)(s − se)
+		// to within f''·1e-20, and f'(se) ≈ xi there.
+		return s, fe + xi*(s-se)
 	}
 	return s, sol.Flow.F(s)
 }
@@ -198,16 +220,23 @@ func (sol *Solution) Outlet(tD float64) (s, cut float64) {
 // tD pore volumes injected: s1_init + tD(1 − f(s1_init)) before
 // breakthrough and, after it, Welge's (1952) S̄ = S_out + tD(1 − f(S_out)).
 func (sol *Solution) AverageSaturation(tD float64) float64 {
+	s, _ := sol.averageAndCut(tD, nil)
+	return s
+}
+
+// averageAndCut returns the average saturation and the outlet cut after
+// tD pore volumes, from one outlet state.
+func (sol *Solution) averageAndCut(tD float64, sc *scan) (avg, cut float64) {
 	if tD <= 0 {
-		return sol.Init
+		return sol.Init, sol.FInit
 	}
 	if 1/tD > sol.FrontSpeed() {
-		return sol.Init + tD*(1-sol.FInit)
+		return sol.Init + tD*(1-sol.FInit), sol.FInit
 	}
-	s, f := sol.State(1 / tD)
+	s, f := sol.state(1/tD, sc)
 	// S̄ ≤ S_b holds exactly (the envelope is concave and F(S_b) = 1); the
 	// bound guards against rounding of f just below S_b times a large tD.
-	return min(s+tD*(1-f), sol.Inlet)
+	return min(s+tD*(1-f), sol.Inlet), f
 }
 
 // Recovery returns the fraction of the initial phase 2 produced after tD
@@ -220,6 +249,10 @@ func (sol *Solution) Recovery(tD float64) float64 {
 // or NaN if it never does. The cut is f(s1_init) until breakthrough, then
 // follows the envelope; it jumps where a shock arrives.
 func (sol *Solution) PVIAtCut(limit float64) float64 {
+	return sol.pviAtCut(limit, nil)
+}
+
+func (sol *Solution) pviAtCut(limit float64, sc *scan) float64 {
 	if sol.n == 0 || math.IsNaN(limit) {
 		return math.NaN()
 	}
@@ -237,11 +270,23 @@ func (sol *Solution) PVIAtCut(limit float64) float64 {
 		if limit <= p.FLo {
 			return 1 / p.SpeedLo
 		}
-		s := solveBracket(p.Lo, p.Hi, p.FLo-limit, p.FHi-limit, func(s float64) (float64, float64) {
-			f, df, _ := sol.Flow.Eval(s)
+		lo, hi, glo, ghi := p.Lo, p.Hi, p.FLo-limit, p.FHi-limit
+		if sc != nil {
+			lo, hi, glo, ghi = sc.narrow(lo, hi, glo, ghi, func(k int) float64 { return sc.y[k] - limit })
+		}
+		var d2e float64 // f'' at the last point evaluated
+		s, se, speed := solveBracketAt(lo, hi, glo, ghi, func(s float64) (float64, float64) {
+			f, df, d2f := sol.Flow.Eval(s)
+			d2e = d2f
 			return f - limit, df
 		})
-		speed := sol.Flow.Slope(s)
+		if s != se || math.IsNaN(speed) {
+			if math.Abs(s-se) <= newtonAccept && !math.IsNaN(speed) && !math.IsNaN(d2e) {
+				speed += d2e * (s - se)
+			} else {
+				speed = sol.Flow.Slope(s)
+			}
+		}
 		if !(speed > 0) {
 			return math.NaN()
 		}

@@ -35,7 +35,8 @@ func (s *Solver) Solve(p *Params, sol *Solution) error {
 		sol.Err = err
 		return err
 	}
-	sol.Flow = NewFracFlow(p)
+	sol.corey = coreyOf(p)
+	sol.Flow = FracFlow{Rel: &sol.corey, R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
 	sol.Init = p[S1Init]
 	sol.FInit = sol.Flow.F(sol.Init)
 	if !(sol.FInit >= 0 && sol.FInit < 1) {
@@ -113,14 +114,17 @@ func (s *Solver) SolveCase(p *Params, pvi []float64, cutLimit float64, r *Result
 	r.BreakthroughPVI = 1 / r.FrontSpeed
 	r.RecoveryAtBreakthrough = r.BreakthroughPVI * (1 - sol.FInit) / (1 - sol.Init)
 	r.MaxRecovery = sol.MaxRecovery()
+	scale := 1 / (1 - sol.Init)
 	for i, t := range pvi {
-		r.RecoveryAt[i] = sol.Recovery(t)
-		_, r.CutAt[i] = sol.Outlet(t)
+		avg, cut := sol.averageAndCut(t, &s.sc)
+		r.RecoveryAt[i] = (avg - sol.Init) * scale
+		r.CutAt[i] = cut
 	}
-	r.PVIAtCutLimit = sol.PVIAtCut(cutLimit)
+	r.PVIAtCutLimit = sol.pviAtCut(cutLimit, &s.sc)
 	r.RecoveryAtCutLimit = math.NaN()
 	if !math.IsNaN(r.PVIAtCutLimit) {
-		r.RecoveryAtCutLimit = sol.Recovery(r.PVIAtCutLimit)
+		avg, _ := sol.averageAndCut(r.PVIAtCutLimit, &s.sc)
+		r.RecoveryAtCutLimit = (avg - sol.Init) * scale
 	}
 }
 
