@@ -532,6 +532,7 @@ func solveBracketAt(lo, hi, glo, ghi float64, g func(float64) (float64, float64)
 		// Start from the secant through the bracket ends.
 		x = xs
 	}
+	prevStep := math.Inf(1)
 	for range 100 {
 		gx, dgx := g(x)
 		if gx == 0 || math.IsNaN(gx) {
@@ -548,9 +549,13 @@ func solveBracketAt(lo, hi, glo, ghi float64, g func(float64) (float64, float64)
 		if !newton {
 			next = 0.5 * (lo + hi)
 		}
-		if math.Abs(next-x) <= tangencyTol || math.Abs(hi-lo) <= tangencyTol || (newton && math.Abs(step) <= newtonAccept) {
+		// Accept a small Newton step only once convergence is visibly
+		// quadratic; near a singular end point it is not.
+		small := newton && math.Abs(step) <= newtonAccept && math.Abs(step) <= 1e-3*prevStep
+		if math.Abs(next-x) <= tangencyTol || math.Abs(hi-lo) <= tangencyTol || small {
 			return next, x, dgx
 		}
+		prevStep = math.Abs(next - x)
 		x = next
 	}
 	return x, x, math.NaN()

@@ -188,7 +188,7 @@ func (sol *Solution) fanState(p *Piece, xi float64, sc *scan) (s, f float64) {
 	}
 	if math.Abs(s-se) <= newtonAccept {
 		// One accepted Newton step from se: f(s) = f(se) + f'(se)(s − se)
-		// to within f''·1e-20, and f'(se) ≈ xi there.
+		// to within f″·1e-24, and f′(se) ≈ xi there.
 		return s, fe + xi*(s-se)
 	}
 	return s, sol.Flow.F(s)

@@ -1,0 +1,39 @@
+package batch
+
+import (
+	"errors"
+	"time"
+
+	"github.com/apache/arrow/go/v17/arrow/memory"
+)
+
+// ErrExists is the cause of the error Run returns when the study's output
+// folder already exists and Options.Force is not set.
+var ErrExists = errors.New("output folder exists (use --force to replace it)")
+
+// Options configures [Run]. The zero value runs the whole study with one
+// worker per CPU into the current folder.
+type Options struct {
+	Out       string           // parent folder; a study writes into Out/<study name>
+	Workers   int              // goroutines solving cases; 0 means runtime.NumCPU()
+	Force     bool             // replace an existing output folder
+	BatchRows int              // cases per Arrow record batch; 0 means DefaultBatchRows
+	Progress  Progress         // nil for none
+	Version   string           // program version, written to run.json
+	Alloc     memory.Allocator // nil means memory.DefaultAllocator
+	Now       func() time.Time // clock for run.json timings; nil means time.Now
+}
+
+// DefaultBatchRows is the number of cases per record batch of cases.arrow.
+const DefaultBatchRows = 8192
+
+// Progress receives a run's progress. Calls come from one goroutine.
+type Progress interface {
+	// Start announces a phase ("solving", "summaries", "tornado", "sobol")
+	// of the study with the given number of units (cases or solves).
+	Start(study, phase string, total int)
+	// Add reports n more units done.
+	Add(n int)
+	// Finish ends the phase.
+	Finish()
+}

@@ -1,0 +1,365 @@
+package batch
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"runtime"
+	"time"
+
+	"github.com/apache/arrow/go/v17/arrow"
+	"github.com/apache/arrow/go/v17/arrow/array"
+	"github.com/apache/arrow/go/v17/arrow/memory"
+	"golang.org/x/sync/errgroup"
+
+	"github.com/sweepstat/sweepstat/engine"
+	"github.com/sweepstat/sweepstat/sampler"
+	"github.com/sweepstat/sweepstat/studies"
+)
+
+// File names inside a study's output folder (DESIGN §6).
+const (
+	CasesFile       = "cases.arrow"
+	SummaryFile     = "summary.arrow"
+	TornadoFile     = "tornado.arrow"
+	SensitivityFile = "sensitivity.arrow"
+	CurvesFile      = "curves.arrow"
+	ReportFile      = "report.html"
+	RunFile         = "run.json"
+)
+
+// NewDesign builds the sampling design of st. Problems the sampler finds
+// (a correlation matrix that is not positive definite, say) come back as a
+// studies.ErrorList positioned in the study file.
+func NewDesign(st *studies.Study) (*sampler.Design, error) {
+	method, ok := sampler.ParseMethod(st.Sampling)
+	if !ok {
+		return nil, fmt.Errorf("batch: unknown sampling %q", st.Sampling)
+	}
+	corr := make([]sampler.Correlation, len(st.Correlations))
+	for i, c := range st.Correlations {
+		corr[i] = sampler.Correlation{A: c.A, B: c.B, Rho: c.Rho}
+	}
+	d, err := sampler.New(st.Specs(), method, st.Seed, st.Cases, corr)
+	if err == nil {
+		return d, nil
+	}
+	var list studies.ErrorList
+	for _, e := range unwrapAll(err) {
+		var ce *sampler.CorrelationError
+		var pe *sampler.ParamError
+		switch {
+		case errors.As(e, &ce):
+			list.Add(st.CorrelationError(ce.Index, e))
+		case errors.As(e, &pe) && pe.Index >= 0 && pe.Index < int(engine.NumParams):
+			list.Add(st.ParameterError(engine.Param(pe.Index), pe.Field, e))
+		default:
+			list.Add(st.ParameterError(engine.Param(0), "", e))
+		}
+	}
+	list.Sort()
+	return nil, list
+}
+
+func unwrapAll(err error) []error {
+	if m, ok := err.(interface{ Unwrap() []error }); ok {
+		return m.Unwrap()
+	}
+	return []error{err}
+}
+
+// casesSchema returns the schema of cases.arrow: the case index, every
+// engine parameter, every output column and the status.
+func casesSchema(outs []engine.Output) *arrow.Schema {
+	fields := []arrow.Field{field(engine.ColCase, arrow.PrimitiveTypes.Int64, "")}
+	for p := engine.Param(0); p < engine.NumParams; p++ {
+		fields = append(fields, field(p.String(), arrow.PrimitiveTypes.Float64, p.Unit()))
+	}
+	for _, o := range outs {
+		fields = append(fields, field(o.Name, arrow.PrimitiveTypes.Float64, o.Unit))
+	}
+	fields = append(fields, field(engine.ColStatus, arrow.BinaryTypes.String, ""))
+	return arrow.NewSchema(fields, nil)
+}
+
+// chunk is one record batch of cases: sampled inputs and solved outputs,
+// column-wise.
+type chunk struct {
+	start, count int
+	in           [][]float64 // engine.NumParams columns
+	out          [][]float64 // one column per output
+	status       []string
+	done         chan struct{}
+}
+
+// worker holds one goroutine's sampler and solver state.
+type worker struct {
+	fill   *sampler.Filler
+	solver engine.Solver
+	res    engine.Result
+}
+
+// solveChunk samples and solves the cases of c.
+func (w *worker) solveChunk(st *studies.Study, outs []engine.Output, c *chunk) {
+	w.fill.Fill(c.start, c.count, c.in)
+	var row [engine.NumParams]float64
+	for k := range c.count {
+		for j := range row {
+			row[j] = c.in[j][k]
+		}
+		p := st.Case(row[:])
+		w.solver.SolveCase(&p, st.Report.PVI, st.Report.CutLimit, &w.res)
+		for o := range outs {
+			c.out[o][k] = outs[o].Get(&w.res)
+		}
+		if w.res.Status == engine.StatusOK {
+			c.status[k] = "ok"
+		} else {
+			c.status[k] = w.res.StatusText()
+		}
+	}
+}
+
+// Run solves every case of st and writes the study's outputs into
+// opt.Out/<st.Name>: cases.arrow streamed in case order, then the
+// summaries computed from it, the report and run.json. Everything is
+// written into a hidden staging folder that replaces the final folder
+// only when complete; an existing folder is kept unless opt.Force is set,
+// and is never removed before the new outputs are complete.
+func Run(ctx context.Context, st *studies.Study, opt Options) (*Info, error) {
+	now := opt.Now
+	if now == nil {
+		now = time.Now
+	}
+	mem := opt.Alloc
+	if mem == nil {
+		mem = memory.DefaultAllocator
+	}
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	final := filepath.Join(opt.Out, st.Name)
+	if _, err := os.Stat(final); err == nil && !opt.Force {
+		return nil, fmt.Errorf("%s: %w", final, ErrExists)
+	}
+	design, err := NewDesign(st)
+	if err != nil {
+		return nil, err
+	}
+	stage := tempDirFor(final)
+	if err := os.RemoveAll(stage); err != nil {
+		return nil, err
+	}
+	if err := os.MkdirAll(stage, 0o755); err != nil {
+		return nil, err
+	}
+	ok := false
+	defer func() {
+		if !ok {
+			os.RemoveAll(stage)
+		}
+	}()
+
+	start := now()
+	info := &Info{
+		Study: st.Name, Source: st.Source, StudyHash: st.Hash, Seed: st.Seed, Sampling: st.Sampling,
+		Version: opt.Version, Cases: st.Cases, Workers: workers, Percentiles: st.Report.Percentiles,
+		Started: start.UTC().Format(time.RFC3339), Seconds: map[string]float64{}, Caution: Caution,
+	}
+	rejected, err := writeCases(ctx, st, design, filepath.Join(stage, CasesFile), workers, opt, mem)
+	if err != nil {
+		return nil, err
+	}
+	solved := now()
+	info.Seconds["solve"] = solved.Sub(start).Seconds()
+	info.CasesPerSec = float64(st.Cases) / max(info.Seconds["solve"], 1e-9)
+	info.RejectedBy = rejected
+	for _, n := range rejected {
+		info.Rejected += n
+	}
+
+	if err := writeSummaries(ctx, st, design, stage, workers, opt, mem, info); err != nil {
+		return nil, err
+	}
+	info.Seconds["summaries"] = now().Sub(solved).Seconds()
+	if err := writeReport(st, stage, info, mem); err != nil {
+		return nil, err
+	}
+	info.Seconds["total"] = now().Sub(start).Seconds()
+	info.Files = []string{CasesFile, SummaryFile, TornadoFile, SensitivityFile, CurvesFile, ReportFile, RunFile}
+	js, err := json.MarshalIndent(info, "", "  ")
+	if err != nil {
+		return nil, err
+	}
+	if err := writeFileAtomic(filepath.Join(stage, RunFile), append(js, '\n')); err != nil {
+		return nil, err
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	if err := swapIn(stage, final); err != nil {
+		return nil, err
+	}
+	ok = true
+	return info, nil
+}
+
+// swapIn moves the complete staging folder to final, replacing what was
+// there only after the new folder is ready.
+func swapIn(stage, final string) error {
+	old := filepath.Join(filepath.Dir(final), "."+filepath.Base(final)+".old")
+	os.RemoveAll(old)
+	if _, err := os.Stat(final); err == nil {
+		if err := os.Rename(final, old); err != nil {
+			return fmt.Errorf("replacing %s: %w", final, err)
+		}
+	}
+	if err := os.Rename(stage, final); err != nil {
+		os.Rename(old, final)
+		return fmt.Errorf("replacing %s: %w", final, err)
+	}
+	return os.RemoveAll(old)
+}
+
+// writeCases samples and solves every case in parallel and streams them
+// in case order into an Arrow IPC file. It returns the count of rejected
+// cases by status. Memory is bounded by 2·workers record batches.
+func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, workers int, opt Options, mem memory.Allocator) (map[string]int, error) {
+	outs := engine.Outputs(st.Report.PVI)
+	schema := casesSchema(outs)
+	w, err := newIPCWriter(path, schema, mem)
+	if err != nil {
+		return nil, err
+	}
+	committed := false
+	defer func() {
+		if !committed {
+			w.abort()
+		}
+	}()
+	rows := opt.BatchRows
+	if rows <= 0 {
+		rows = DefaultBatchRows
+	}
+	if opt.Progress != nil {
+		opt.Progress.Start(st.Name, "solving", st.Cases)
+		defer opt.Progress.Finish()
+	}
+
+	pool := make(chan *worker, workers)
+	for range workers {
+		pool <- &worker{fill: design.NewFiller()}
+	}
+	free := make(chan *chunk, 2*workers)
+	for range 2 * workers {
+		c := &chunk{in: make([][]float64, engine.NumParams), out: make([][]float64, len(outs)), status: make([]string, rows)}
+		for j := range c.in {
+			c.in[j] = make([]float64, rows)
+		}
+		for j := range c.out {
+			c.out[j] = make([]float64, rows)
+		}
+		free <- c
+	}
+	pending := make(chan *chunk, 2*workers)
+
+	cctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	g, gctx := errgroup.WithContext(cctx)
+	g.SetLimit(workers + 1)
+	// The producer hands out chunks in case order; each is solved by one
+	// goroutine into its own slots, and the writer below takes them back
+	// in the same order.
+	g.Go(func() error {
+		defer close(pending)
+		for s := 0; s < st.Cases; s += rows {
+			var c *chunk
+			select {
+			case c = <-free:
+			case <-gctx.Done():
+				return gctx.Err()
+			}
+			c.start, c.count = s, min(rows, st.Cases-s)
+			c.done = make(chan struct{})
+			pending <- c
+			g.Go(func() error {
+				wk := <-pool
+				defer func() { pool <- wk }()
+				defer close(c.done)
+				if gctx.Err() != nil {
+					return gctx.Err()
+				}
+				wk.solveChunk(st, outs, c)
+				return nil
+			})
+		}
+		return nil
+	})
+
+	rejected := map[string]int{}
+	var werr error
+	for c := range pending {
+		select {
+		case <-c.done:
+		case <-gctx.Done():
+		}
+		if werr == nil && gctx.Err() == nil {
+			werr = appendChunk(w.b, c, outs, rejected)
+			if werr == nil {
+				werr = w.flush()
+			}
+			if werr != nil {
+				cancel() // stop solving what can no longer be written
+			} else if opt.Progress != nil {
+				opt.Progress.Add(c.count)
+			}
+		}
+		<-c.done
+		free <- c
+	}
+	if err := g.Wait(); err != nil {
+		return nil, err
+	}
+	if werr != nil {
+		return nil, werr
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	committed = true
+	if err := w.commit(); err != nil {
+		return nil, err
+	}
+	return rejected, nil
+}
+
+// appendChunk appends a solved chunk's rows to the record builder.
+func appendChunk(b *array.RecordBuilder, c *chunk, outs []engine.Output, rejected map[string]int) error {
+	n := c.count
+	cases := b.Field(0).(*array.Int64Builder)
+	cases.Reserve(n)
+	for k := range n {
+		cases.UnsafeAppend(int64(c.start + k))
+	}
+	col := 1
+	for j := range c.in {
+		b.Field(col).(*array.Float64Builder).AppendValues(c.in[j][:n], nil)
+		col++
+	}
+	for j := range outs {
+		b.Field(col).(*array.Float64Builder).AppendValues(c.out[j][:n], nil)
+		col++
+	}
+	sb := b.Field(col).(*array.StringBuilder)
+	sb.AppendValues(c.status[:n], nil)
+	for _, s := range c.status[:n] {
+		if s != "ok" {
+			rejected[s]++
+		}
+	}
+	return nil
+}
