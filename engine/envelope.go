@@ -16,7 +16,7 @@ import (
 // The scan only decides the pieces' order and rough ends; every end point
 // is then solved to machine precision on the analytic derivatives.
 const (
-	uniformIntervals = 64
+	uniformIntervals = 32
 	geomFirst        = 7
 	geomLevels       = 12
 	geomStep         = 2 // in powers of two
@@ -94,6 +94,7 @@ type scan struct {
 	n        int // grid points; x[0] = s1_init, x[n−1] = S_b
 	x, y, dy [maxGrid]float64
 	d2y      [maxGrid]float64
+	tmp      [geomLevels][4]float64
 	hull     [maxGrid]int
 	nhull    int
 	chords   [maxGrid]chord
@@ -145,17 +146,60 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 		corey, isCorey = *c, true
 	}
 	if hi-lo >= minTablePoints {
-		for k := lo; k < hi; k++ {
-			s := s1r + t.se[k]*span
-			if s <= a || s >= b {
-				continue
-			}
+		ispan := 1 / span
+		eval := func(k int) (s, f, df, d2f float64) {
+			s = s1r + t.se[k]*span
 			if isCorey {
-				f, df, d2f = ff.combine(corey.evalLog(t.se[k], t.l1[k], t.l2[k], t.inv1[k], t.inv2[k]))
+				f, df, d2f = ff.combine(corey.evalLog(t.se[k], t.l1[k], t.l2[k], t.inv1[k], t.inv2[k], ispan))
 			} else {
 				f, df, d2f = ff.Eval(s)
 			}
+			return s, f, df, d2f
+		}
+		// The cluster at Se → 0 (only inside the range when s1_init ≤ s1r)
+		// is scanned from its coarse end down and cut short once a point
+		// lies far below every chord from s1_init: with n1 ≥ 1 the ratio
+		// f/(S − s1_init) only falls towards Se = 0, so no finer point can
+		// be on the hull.
+		low := min(geomLevels, hi)
+		if lo < low {
+			cmin := (1 - sc.y[0]) / (b - a)
+			first := lo
+			for k := low - 1; k >= lo; k-- {
+				s, f, df, d2f := eval(k)
+				sc.tmp[k] = [4]float64{s, f, df, d2f}
+				first = k
+				if corey.N1 >= 1 && isCorey && k <= low-3 && f < 0.25*cmin*(s-a) {
+					break
+				}
+			}
+			for k := first; k < low; k++ {
+				if v := sc.tmp[k]; v[0] > a && v[0] < b {
+					sc.add(v[0], v[1], v[2], v[3])
+				}
+			}
+			lo = low
+		}
+		concave := 0
+		for k := lo; k < hi; k++ {
+			s, f, df, d2f := eval(k)
+			if s <= a || s >= b {
+				continue
+			}
 			sc.add(s, f, df, d2f)
+			// The cluster at Se → 1 is cut short once f is concave at two
+			// levels in a row: with n2 ≥ 1 it stays concave up to S_b, a
+			// fan whose finer points would add nothing to the hull.
+			if k >= tableSize-geomLevels && isCorey && corey.N2 >= 1 {
+				if d2f < 0 {
+					concave++
+				} else {
+					concave = 0
+				}
+				if concave >= 2 {
+					break
+				}
+			}
 		}
 	} else {
 		// A narrow range: even steps over it, clustered geometrically
@@ -516,6 +560,13 @@ const newtonAccept = 1e-12
 // evaluated, xe, and the derivative there, dge; the root x differs from xe
 // by at most one accepted Newton step, so callers can extrapolate values
 // at x from xe to first order instead of evaluating again.
+//
+// A step that Newton would take outside the bracket is replaced by a
+// false-position step with the Illinois modification (Dowell & Jarratt
+// 1971), which keeps superlinear convergence where g has a power-law
+// singularity at a bracket end (f″ infinite at a residual saturation) and
+// Newton alone would stall; a bisection follows when even that fails to
+// halve the bracket.
 func solveBracketAt(lo, hi, glo, ghi float64, g func(float64) (float64, float64)) (x, xe, dge float64) {
 	if glo == 0 {
 		return lo, lo, math.NaN()
@@ -527,27 +578,50 @@ func solveBracketAt(lo, hi, glo, ghi float64, g func(float64) (float64, float64)
 		// Orient so that g(lo) < 0 < g(hi); lo may then exceed hi.
 		lo, hi, glo, ghi = hi, lo, ghi, glo
 	}
-	x = 0.5 * (lo + hi)
-	if xs := lo - glo*(hi-lo)/(ghi-glo); xs > math.Min(lo, hi) && xs < math.Max(lo, hi) {
-		// Start from the secant through the bracket ends.
-		x = xs
+	falsePos := func() float64 {
+		if xs := lo - glo*(hi-lo)/(ghi-glo); xs > math.Min(lo, hi) && xs < math.Max(lo, hi) {
+			return xs
+		}
+		return 0.5 * (lo + hi)
 	}
+	x = falsePos()
 	prevStep := math.Inf(1)
+	side := 0 // which end the last false-position step replaced: −1 lo, +1 hi
+	width := math.Abs(hi - lo)
 	for range 100 {
 		gx, dgx := g(x)
 		if gx == 0 || math.IsNaN(gx) {
 			return x, x, dgx
 		}
 		if gx < 0 {
-			lo = x
+			lo, glo = x, gx
+			if side == -1 {
+				ghi *= 0.5 // Illinois: the other end has been kept twice
+			}
+			side = -1
 		} else {
-			hi = x
+			hi, ghi = x, gx
+			if side == 1 {
+				glo *= 0.5
+			}
+			side = 1
 		}
 		step := gx / dgx
+		if math.Abs(step) <= tangencyTol {
+			// Converged: the step is below the tolerance (and may round
+			// onto a bracket end).
+			return x - step, x, dgx
+		}
 		next := x - step
 		newton := next > math.Min(lo, hi) && next < math.Max(lo, hi)
 		if !newton {
-			next = 0.5 * (lo + hi)
+			next = falsePos()
+			if w := math.Abs(hi - lo); w > 0.5*width {
+				next = 0.5 * (lo + hi)
+				width = w
+			} else {
+				width = w
+			}
 		}
 		// Accept a small Newton step only once convergence is visibly
 		// quadratic; near a singular end point it is not.

@@ -76,9 +76,8 @@ func (c Corey) Eval(s float64) RelPermValue {
 }
 
 // evalLog is Eval at an interior Se given ln Se, ln(1 − Se), 1/Se and
-// 1/(1 − Se), for the scan's fixed grid.
-func (c Corey) evalLog(se, l1, l2, inv1, inv2 float64) RelPermValue {
-	ispan := 1 / (1 - c.S1r - c.S2r)
+// 1/(1 − Se), and 1/(1 − S1r − S2r), for the scan's fixed grid.
+func (c Corey) evalLog(se, l1, l2, inv1, inv2, ispan float64) RelPermValue {
 	var v RelPermValue
 	v.Kr1 = c.Kr1Max * powLog(se, l1, c.N1)
 	v.Kr2 = c.Kr2Max * powLog(1-se, l2, c.N2)
