@@ -24,7 +24,7 @@ const (
 	// minTablePoints is the fewest table points inside [s1_init, S_b] for
 	// which the fixed table is used; a narrower range gets a grid of its own.
 	minTablePoints = 40
-	maxGrid        = tableSize + 2
+	maxGrid        = tableSize + 2 + 8 // the table, both end states and a few bump peaks
 )
 
 // maxPieces bounds the pieces of one envelope: the scan's hull has at most
@@ -221,9 +221,12 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 	}
 	_, df, d2f = ff.Eval(b)
 	sc.add(b, 1, df, d2f) // the inlet flux condition f(S_b) = 1
+	sc.hullOf()
+}
 
-	// Upper hull by Andrew's monotone chain: drop a middle point that lies
-	// on or below the chord of its neighbours.
+// hullOf computes the upper hull of the samples by Andrew's monotone
+// chain: a middle point on or below the chord of its neighbours is dropped.
+func (sc *scan) hullOf() {
 	m := 0
 	for i := 0; i < sc.n; i++ {
 		for m >= 2 {
@@ -278,7 +281,37 @@ func (sc *scan) envelope(sol *Solution) {
 	a, b := sol.Init, sol.Inlet
 	sc.build(ff, a, b)
 
-	// Hull edges that are not fan stretches are shocks; solve their ends.
+	var nc int
+	for range maxBumpRounds {
+		nc = sc.chordsOfHull(ff)
+		if !sc.splitBumps(ff, nc) {
+			break
+		}
+		sc.hullOf()
+	}
+
+	// Pieces: fans between the shocks.
+	sol.n = 0
+	cur := a
+	for _, c := range sc.chords[:nc] {
+		if c.p > cur {
+			sol.addFan(cur, c.p)
+		}
+		sol.addShock(c.p, c.q)
+		cur = c.q
+	}
+	if cur < b {
+		sol.addFan(cur, b)
+	}
+}
+
+// maxBumpRounds bounds the rounds of [scan.splitBumps]: each round adds
+// the peaks of bumps the grid stepped over and solves the chords again.
+const maxBumpRounds = 4
+
+// chordsOfHull turns the hull edges that are not fan stretches into
+// shocks with exactly solved ends, in sc.chords, and returns their number.
+func (sc *scan) chordsOfHull(ff *FracFlow) int {
 	nc := 0
 	for k := 0; k+1 < sc.nhull; k++ {
 		i, j := sc.hull[k], sc.hull[k+1]
@@ -304,20 +337,52 @@ func (sc *scan) envelope(sol *Solution) {
 			nc++
 		}
 	}
+	return nc
+}
 
-	// Pieces: fans between the shocks.
-	sol.n = 0
-	cur := a
+// splitBumps looks under every shock for a bump of f narrower than the
+// grid: between neighbouring grid points where f' − c falls through zero
+// (c the shock speed), f − chord has a local maximum. Its peak solves
+// f'(S) = c; if f rises above the chord there, the peak is added to the
+// grid so that the next hull includes it. It reports whether any was
+// added.
+func (sc *scan) splitBumps(ff *FracFlow, nc int) bool {
+	added := false
 	for _, c := range sc.chords[:nc] {
-		if c.p > cur {
-			sol.addFan(cur, c.p)
+		fp := sc.fAt(ff, c.p)
+		speed := (sc.fAt(ff, c.q) - fp) / (c.q - c.p)
+		for k := 0; k+1 < sc.n && sc.n < maxGrid; k++ {
+			x0, x1 := sc.x[k], sc.x[k+1]
+			if x0 <= c.p || x1 >= c.q {
+				continue
+			}
+			g0, g1 := sc.dy[k]-speed, sc.dy[k+1]-speed
+			if !(g0 > 0 && g1 < 0) {
+				continue
+			}
+			s := solveBracket(x0, x1, g0, g1, func(s float64) (float64, float64) {
+				_, df, d2f := ff.Eval(s)
+				return df - speed, d2f
+			})
+			f, df, d2f := ff.Eval(s)
+			if gap := f - (fp + speed*(s-c.p)); gap > 1e-13*(1+math.Abs(f)) {
+				sc.insert(k+1, s, f, df, d2f)
+				added = true
+				k++
+			}
 		}
-		sol.addShock(c.p, c.q)
-		cur = c.q
 	}
-	if cur < b {
-		sol.addFan(cur, b)
-	}
+	return added
+}
+
+// insert puts a sample at index k of the grid, shifting the rest up.
+func (sc *scan) insert(k int, s, f, df, d2f float64) {
+	copy(sc.x[k+1:sc.n+1], sc.x[k:sc.n])
+	copy(sc.y[k+1:sc.n+1], sc.y[k:sc.n])
+	copy(sc.dy[k+1:sc.n+1], sc.dy[k:sc.n])
+	copy(sc.d2y[k+1:sc.n+1], sc.d2y[k:sc.n])
+	sc.x[k], sc.y[k], sc.dy[k], sc.d2y[k] = s, f, df, d2f
+	sc.n++
 }
 
 // refine solves the ends of the shock c exactly: the lower end p is a
