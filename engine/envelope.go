@@ -125,6 +125,9 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 	span := 1 - s1r - s2r
 	ua := max(0, (a-s1r)/span)
 	ub := min(1, (b-s1r)/span)
+	if b == 1-s2r {
+		ub = 1 // exactly: the cluster at Se → 1 is needed whenever S_b is the end point
+	}
 	sc.n = 0
 	f, df, d2f := ff.Eval(a)
 	sc.add(a, f, df, d2f)
