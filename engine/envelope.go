@@ -24,7 +24,7 @@ const (
 	// minTablePoints is the fewest table points inside [s1_init, S_b] for
 	// which the fixed table is used; a narrower range gets a grid of its own.
 	minTablePoints = 40
-	maxGrid        = tableSize + 2 + 8 // the table, both end states and a few bump peaks
+	maxGrid        = tableSize + 2 + 48 // the table, both end states and points added where the grid was too coarse
 )
 
 // maxPieces bounds the pieces of one envelope: the scan's hull has at most
@@ -98,6 +98,9 @@ type scan struct {
 	hull     [maxGrid]int
 	nhull    int
 	chords   [maxGrid]chord
+
+	collapsed  [4][2]int // hull edges whose shock could not be solved
+	ncollapsed int
 }
 
 // chord is a shock of the envelope between contact points p < q, found
@@ -283,6 +286,7 @@ func (sc *scan) envelope(sol *Solution) {
 	ff := &sol.Flow
 	a, b := sol.Init, sol.Inlet
 	sc.build(ff, a, b)
+	sc.ncollapsed = 0
 
 	var nc int
 	for range maxBumpRounds {
@@ -338,9 +342,25 @@ func (sc *scan) chordsOfHull(ff *FracFlow) int {
 		if c.q-c.p > minShock && sc.fAt(ff, c.q)-sc.fAt(ff, c.p) > minShockRise {
 			sc.chords[nc] = c
 			nc++
+		} else if sc.convexBetween(i, j) && sc.ncollapsed < len(sc.collapsed) {
+			// f is convex somewhere on the edge, so a shock must bridge
+			// it, but the tangencies could not be found from the edge's
+			// ends: the grid is too coarse there. Mark it for sampling.
+			sc.collapsed[sc.ncollapsed] = [2]int{i, j}
+			sc.ncollapsed++
 		}
 	}
 	return nc
+}
+
+// convexBetween reports whether f'' > 0 at a grid point of [x_i, x_j].
+func (sc *scan) convexBetween(i, j int) bool {
+	for k := i; k <= j; k++ {
+		if sc.d2y[k] > 0 && !math.IsInf(sc.d2y[k], 1) {
+			return true
+		}
+	}
+	return false
 }
 
 // splitBumps looks under every shock for a bump of f narrower than the
@@ -351,6 +371,22 @@ func (sc *scan) chordsOfHull(ff *FracFlow) int {
 // added.
 func (sc *scan) splitBumps(ff *FracFlow, nc int) bool {
 	added := false
+	// Edges whose shock could not be solved: sample each of their grid
+	// intervals at three more points, from the last edge down so that the
+	// indices of the earlier ones stay valid.
+	for e := sc.ncollapsed - 1; e >= 0; e-- {
+		i, j := sc.collapsed[e][0], sc.collapsed[e][1]
+		for k := j - 1; k >= i; k-- {
+			x0, x1 := sc.x[k], sc.x[k+1]
+			for m := 3; m >= 1 && sc.n < maxGrid; m-- {
+				s := x0 + (x1-x0)*float64(m)/4
+				f, df, d2f := ff.Eval(s)
+				sc.insert(k+1, s, f, df, d2f)
+				added = true
+			}
+		}
+	}
+	sc.ncollapsed = 0
 	for _, c := range sc.chords[:nc] {
 		fp := sc.fAt(ff, c.p)
 		speed := (sc.fAt(ff, c.q) - fp) / (c.q - c.p)

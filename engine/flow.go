@@ -146,7 +146,7 @@ func InletSaturation(p *Params, ff *FracFlow) float64 {
 	if x >= 1 {
 		return top
 	}
-	seb := math.Pow(x, 1/p[N1])
+	seb := fastExp(float64(fastLog(x) / p[N1]))
 	sb := s1r + seb*(1-s1r-s2r)
 	if sb > top {
 		sb = top

@@ -122,7 +122,8 @@ func powEndSlope(k, n, span float64) (d, dd float64) {
 // pow returns x^y for 0 < x < 1 and y > 0, the only arguments the
 // relative-permeability curves need. Integer exponents 1 to 4 are
 // multiplied out; others go through exp(y·ln x), which is several times
-// faster than math.Pow and accurate to a few ulps here.
+// faster than math.Pow and accurate to a few ulps here, with the same
+// bits on every CPU (see fastExp).
 func pow(x, y float64) float64 {
 	switch y {
 	case 1:
@@ -135,7 +136,7 @@ func pow(x, y float64) float64 {
 		x2 := x * x
 		return x2 * x2
 	}
-	return math.Exp(y * math.Log(x))
+	return fastExp(float64(y * fastLog(x)))
 }
 
 // powLog returns x^y given lx = ln x, with the same integer shortcuts as pow.
@@ -144,5 +145,5 @@ func powLog(x, lx, y float64) float64 {
 	case 1, 2, 3, 4:
 		return pow(x, y)
 	}
-	return math.Exp(y * lx)
+	return fastExp(float64(y * lx))
 }
