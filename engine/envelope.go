@@ -353,7 +353,7 @@ func (sc *scan) chordsOfHull(ff *FracFlow) int {
 	return nc
 }
 
-// convexBetween reports whether f'' > 0 at a grid point of [x_i, x_j].
+// convexBetween reports whether f” > 0 at a grid point of [x_i, x_j].
 func (sc *scan) convexBetween(i, j int) bool {
 	for k := i; k <= j; k++ {
 		if sc.d2y[k] > 0 && !math.IsInf(sc.d2y[k], 1) {

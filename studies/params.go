@@ -114,7 +114,7 @@ func (p *parser) parameters(key, n *yaml.Node) *paramSet {
 		return ps
 	}
 	names := paramNames()
-	m := p.known(es, "parameters", names, "parameter", "")
+	m := p.known(es, "parameters", names, "parameter")
 	for q := engine.Param(0); q < engine.NumParams; q++ {
 		e, given := m[q.String()]
 		if !given {
@@ -150,6 +150,8 @@ func (p *parser) param(q engine.Param, e entry, path string) (*Parameter, bool) 
 	case isNull(n):
 		p.errorf(n, path, ErrMissing, "no value; want %s", specFormMsg)
 		return par, false
+	case p.hugeNumber(n, path):
+		return par, false
 	case n.Kind == yaml.ScalarNode:
 		if tag := n.ShortTag(); tag != "!!int" && tag != "!!float" {
 			msg := fmt.Sprintf("want %s, got %s", specFormMsg, describe(n))
@@ -181,7 +183,7 @@ func (p *parser) param(q engine.Param, e entry, path string) (*Parameter, bool) 
 	}
 	d, ok := byName["dist"]
 	if !ok {
-		p.known(es, path, append([]string{"dist", "same_as"}, allFields...), "key", "")
+		p.known(es, path, append([]string{"dist", "same_as"}, allFields...), "key")
 		p.errorf(n, path+".dist", ErrMissing, "a distribution needs dist: (%s), or write {same_as: name}", strings.Join(distNames, ", "))
 		return par, false
 	}
@@ -270,17 +272,25 @@ func (p *parser) param(q engine.Param, e entry, path string) (*Parameter, bool) 
 			return
 		}
 		vs := make([]float64, 0, len(f.val.Content))
+		ps := make([]Pos, 0, len(f.val.Content))
 		for i, c := range f.val.Content {
 			c = deref(c)
-			field := indexPath(field, i)
-			par.fields[field] = posOf(c)
-			v, ok := p.number(c, path+"."+field)
+			ps = append(ps, posOf(c))
+			v, ok := fastNumber(c)
+			if !ok {
+				v, ok = p.number(c, path+"."+indexPath(field, i))
+			}
 			if !ok {
 				good = false
 			}
 			vs = append(vs, v)
 		}
 		*dst = vs
+		if field == "values" {
+			par.valuesPos = ps
+		} else {
+			par.weightsPos = ps
+		}
 	}
 	list("values", &sp.Values)
 	list("weights", &sp.Weights)

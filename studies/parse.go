@@ -48,6 +48,8 @@ func readError(path string, err error) error {
 // default applied and passed every check below; otherwise Parse returns a
 // nil study and an [ErrorList] of [*Error], sorted by position, with every
 // problem found in one pass (only a YAML syntax error stops the pass).
+// Past MaxErrors problems, the list ends with one entry saying how many
+// more there were.
 //
 // Checks: well-formed UTF-8 YAML holding one mapping; no duplicate keys;
 // no unknown keys at any level (with a suggestion of the nearest known
@@ -69,9 +71,8 @@ func readError(path string, err error) error {
 func Parse(filename string, data []byte) (*Study, error) {
 	p := &parser{file: filename}
 	s := p.parse(data)
-	if err := p.errs.Err(); err != nil {
-		p.errs.Sort()
-		return nil, p.errs
+	if len(p.errs) > 0 {
+		return nil, p.finish()
 	}
 	sum := sha256.Sum256(data)
 	s.Source = filename
@@ -81,8 +82,9 @@ func Parse(filename string, data []byte) (*Study, error) {
 
 // parser collects the errors of one Parse call.
 type parser struct {
-	file string
-	errs ErrorList
+	file    string
+	errs    ErrorList
+	dropped int // errors beyond collectErrors
 }
 
 func posOf(n *yaml.Node) Pos {
@@ -93,7 +95,30 @@ func posOf(n *yaml.Node) Pos {
 }
 
 func (p *parser) errAt(pos Pos, path string, cause error, format string, args ...any) {
+	if len(p.errs) >= collectErrors {
+		p.dropped++
+		return
+	}
 	p.errs.Add(&Error{File: p.file, Line: pos.Line, Column: pos.Column, Path: path, Err: cause, Msg: fmt.Sprintf(format, args...)})
+}
+
+// collectErrors bounds the errors collected before sorting; MaxErrors of
+// them are kept.
+const collectErrors = 10 * MaxErrors
+
+// finish sorts the errors and keeps the first MaxErrors, followed by one
+// that says how many more there were, at the position of the first one
+// left out.
+func (p *parser) finish() ErrorList {
+	p.errs.Sort()
+	if len(p.errs) <= MaxErrors {
+		return p.errs
+	}
+	first := p.errs[MaxErrors]
+	more := len(p.errs) - MaxErrors + p.dropped
+	list := p.errs[:MaxErrors:MaxErrors]
+	return append(list, &Error{File: p.file, Line: first.Line, Column: first.Column, Err: first.Err,
+		Msg: fmt.Sprintf("too many errors: %d more not shown", more)})
 }
 
 func (p *parser) errorf(n *yaml.Node, path string, cause error, format string, args ...any) {
@@ -368,14 +393,11 @@ func (p *parser) mapping(n *yaml.Node, path, want string) ([]entry, bool) {
 
 // known reports the entries whose key is not in names, with a suggestion,
 // and returns the others by name. noun is "key" or "parameter".
-func (p *parser) known(es []entry, path string, names []string, noun, context string) map[string]entry {
+func (p *parser) known(es []entry, path string, names []string, noun string) map[string]entry {
 	m := make(map[string]entry, len(es))
 	for _, e := range es {
 		if !contains(names, e.name) {
 			msg := fmt.Sprintf("unknown %s %s", noun, quoteShort(e.name))
-			if context != "" {
-				msg += " " + context
-			}
 			if s := suggest(e.name, names); s != "" {
 				msg += "; did you mean " + s + "?"
 			} else {
@@ -398,13 +420,49 @@ func contains(list []string, s string) bool {
 	return false
 }
 
+// fastNumber decodes a plain finite number without reporting anything,
+// for long lists; false sends the caller to number for the message.
+func fastNumber(n *yaml.Node) (float64, bool) {
+	if n.Kind != yaml.ScalarNode || n.ShortTag() != "!!int" && n.ShortTag() != "!!float" {
+		return 0, false
+	}
+	var v float64
+	if err := n.Decode(&v); err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, false
+	}
+	return v, true
+}
+
+// hugeNumber reports, as an error, a plain float literal beyond float64's
+// range, which YAML leaves as text.
+func (p *parser) hugeNumber(n *yaml.Node, path string) bool {
+	if n.Kind != yaml.ScalarNode || n.ShortTag() != "!!str" || n.Style != 0 {
+		return false
+	}
+	if _, err := strconv.ParseFloat(n.Value, 64); !errors.Is(err, strconv.ErrRange) {
+		return false
+	}
+	p.errorf(n, path, ErrValue, "%s is beyond the range of floating-point numbers", n.Value)
+	return true
+}
+
 // number decodes a finite number.
 func (p *parser) number(n *yaml.Node, path string) (float64, bool) {
+	if len(p.errs) >= collectErrors {
+		if v, ok := fastNumber(n); ok {
+			return v, true
+		}
+		p.dropped++
+		return 0, false
+	}
 	if isNull(n) {
 		p.errorf(n, path, ErrMissing, "no value; want a number")
 		return 0, false
 	}
 	tag := n.ShortTag()
+	if p.hugeNumber(n, path) {
+		return 0, false
+	}
 	if n.Kind != yaml.ScalarNode || (tag != "!!int" && tag != "!!float") {
 		msg := fmt.Sprintf("want a number, got %s", describe(n))
 		if quotedNumber(n) {
@@ -529,7 +587,7 @@ func (p *parser) study(root *yaml.Node) *Study {
 	if !ok {
 		return nil
 	}
-	top := p.known(es, "", topKeys, "key", "")
+	top := p.known(es, "", topKeys, "key")
 	for _, req := range []string{"name", "cases", "parameters"} {
 		if _, ok := top[req]; !ok {
 			p.errorf(root, req, ErrMissing, "missing required key %s", req)
@@ -624,7 +682,7 @@ func (p *parser) phases(n *yaml.Node, ph *Phases) {
 	if !ok {
 		return
 	}
-	m := p.known(es, "phases", phaseKeys, "key", "")
+	m := p.known(es, "phases", phaseKeys, "key")
 	label := func(key string, dst *string) {
 		e, ok := m[key]
 		if !ok {
@@ -655,7 +713,7 @@ func (p *parser) report(n *yaml.Node, r *Report) {
 	if !ok {
 		return
 	}
-	m := p.known(es, "report", reportKeys, "key", "")
+	m := p.known(es, "report", reportKeys, "key")
 	if e, ok := m["pvi"]; ok {
 		if pvi, ok := p.pvi(e.val, "report.pvi"); ok {
 			r.PVI = pvi
@@ -725,7 +783,7 @@ func (p *parser) tornado(n *yaml.Node, t *Tornado) {
 	if !ok {
 		return
 	}
-	m := p.known(es, "tornado", tornadoKeys, "key", "")
+	m := p.known(es, "tornado", tornadoKeys, "key")
 	low, high := t.Low, t.High
 	okLow, okHigh := true, true
 	get := func(key string, dst *float64, ok *bool) {
@@ -765,7 +823,7 @@ func (p *parser) sensitivity(n *yaml.Node, sn *Sensitivity, ps *paramSet) {
 	if !ok {
 		return
 	}
-	m := p.known(es, "sensitivity", sensitivityKeys, "key", "")
+	m := p.known(es, "sensitivity", sensitivityKeys, "key")
 	e, ok := m["sobol"]
 	if !ok {
 		return

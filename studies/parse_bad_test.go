@@ -89,6 +89,7 @@ var badCases = []struct {
 	{"infinity in a field", edit("  n1:", "  n1: {dist: uniform, min: 1.5, max: §.inf}"), ErrValue, "parameters.n1.max", "finite", false},
 	{"minus infinity in pvi", baseStudy + "report: {pvi: [0.5, §-.Inf]}\n", ErrValue, "report.pvi[1]", "finite", false},
 	{"zero cases", edit("cases:", "cases: §0"), ErrValue, "cases", "must be from 1 to 2147483647", false},
+	{"number beyond float64", edit("  kr2_max:", "  kr2_max: §1e400"), ErrValue, "parameters.kr2_max", "beyond the range", false},
 	{"fractional cases", edit("cases:", "cases: §1.5"), ErrValue, "cases", "whole number", false},
 	{"too many cases", edit("cases:", "cases: §3e9"), ErrValue, "cases", "must be from 1 to 2147483647", false},
 	{"negative seed", edit("seed:", "seed: §-1"), ErrValue, "seed", "must not be negative", false},
@@ -245,5 +246,25 @@ func TestParseAllErrorsOnePass(t *testing.T) {
 	var one *Error
 	if !errors.As(err, &one) || one != list[0] {
 		t.Errorf("errors.As does not find the first entry")
+	}
+}
+
+// TestParseTooManyErrors: a file with thousands of problems lists the
+// first MaxErrors, then one entry counting the rest.
+func TestParseTooManyErrors(t *testing.T) {
+	t.Parallel()
+	src := "name: x\ncases: 1\nparameters:\n  n1: {dist: discrete, values: [" + strings.Repeat("x, ", 5000) + "1]}\n"
+	_, err := Parse("many.yaml", []byte(src))
+	list, ok := err.(ErrorList)
+	if !ok || len(list) != MaxErrors+1 {
+		t.Fatalf("got %d entries, want %d", len(list), MaxErrors+1)
+	}
+	last := list[MaxErrors]
+	// 5000 bad values and 8 missing required parameters.
+	if want := "too many errors: 4908 more not shown"; last.Msg != want {
+		t.Errorf("last entry %q, want %q", last.Msg, want)
+	}
+	if last.Line < list[MaxErrors-1].Line || last.Line == list[MaxErrors-1].Line && last.Column < list[MaxErrors-1].Column {
+		t.Errorf("last entry %v sorts before %v", last, list[MaxErrors-1])
 	}
 }

@@ -300,8 +300,19 @@ func TestPositions(t *testing.T) {
 		t.Errorf("CorrelationError(-1) = %q", e)
 	}
 	fe := sampler.FieldError{Field: "values[1]", Reason: "too small"}
-	if e := s.ParameterError(engine.N1, fe.Field, fe); e.Error() != "test.yaml:10:36: parameters.n1.values[1]: values[1]: too small" {
+	if e := s.ParameterError(engine.N1, fe.Field, fe); e.Error() != "test.yaml:10:36: parameters.n1.values[1]: too small" || !errors.Is(e, fe) {
 		t.Errorf("ParameterError = %q", e)
+	}
+	// An error text that already names the place keeps it only once.
+	prefixed := errors.New("correlations[0]: not positive definite")
+	if e := s.CorrelationError(0, prefixed); e.Error() != "test.yaml:15:5: correlations[0]: not positive definite" {
+		t.Errorf("CorrelationError = %q", e)
+	}
+	if e := s.ParameterError(engine.N1, "", errors.New("n1: bad")); e.Error() != "test.yaml:10:3: parameters.n1: bad" {
+		t.Errorf("ParameterError(whole) = %q", e)
+	}
+	if e := s.ParameterError(engine.DipDeg, "", errors.New("dip_deg: bad")); e.Error() != "test.yaml:4:1: parameters.dip_deg: bad" {
+		t.Errorf("ParameterError(absent) = %q", e)
 	}
 }
 

@@ -113,8 +113,8 @@ func gravityNumber(permMD, rho1, rho2, dipDeg, mu2CP, uMPerDay float64) float64 
 	return k * (rho1 - rho2) * 9.80665 * math.Sin(dipDeg*math.Pi/180) / (mu2CP * 1e-3 * uMPerDay / 86400)
 }
 
-// middle returns the centre of a uniform or triangular-free spec: the
-// midpoint of a uniform range, the value of a fixed one and, for a
+// middle returns the centre of a fixed, uniform or lognormal spec: the
+// value of a fixed one, the midpoint of a uniform range and, for a
 // lognormal of mean m and sd s, its median m/√(1+s²/m²) (derived: with
 // σ² = ln(1+s²/m²) the mean is exp(μ+σ²/2), and the median is exp(μ)),
 // ignoring truncation.

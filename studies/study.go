@@ -3,6 +3,8 @@ package studies
 import (
 	"fmt"
 	"math"
+	"strconv"
+	"strings"
 
 	"github.com/sweepstat/sweepstat/engine"
 	"github.com/sweepstat/sweepstat/sampler"
@@ -50,6 +52,8 @@ const (
 	MaxLabelLen = 64
 	// MaxFileSize is the largest study file Parse and Load accept, in bytes.
 	MaxFileSize = 4 << 20
+	// MaxErrors is the most errors Parse lists one by one.
+	MaxErrors = 100
 )
 
 // DefaultPVI returns the report checkpoints used when a study gives no
@@ -105,7 +109,8 @@ type Parameter struct {
 	Pos      Pos // position of the parameter's key
 	ValuePos Pos // position of its value (the number or the mapping)
 
-	fields map[string]Pos
+	fields                map[string]Pos // value positions of the mapping's keys
+	valuesPos, weightsPos []Pos          // positions of the list items
 }
 
 // FieldPos returns the position of one field of the parameter's value
@@ -116,6 +121,19 @@ type Parameter struct {
 func (p *Parameter) FieldPos(field string) Pos {
 	if pos, ok := p.fields[field]; ok {
 		return pos
+	}
+	for _, l := range []struct {
+		name string
+		pos  []Pos
+	}{{"values", p.valuesPos}, {"weights", p.weightsPos}} {
+		rest, ok := strings.CutPrefix(field, l.name+"[")
+		if !ok {
+			continue
+		}
+		idx, ok := strings.CutSuffix(rest, "]")
+		if i, err := strconv.Atoi(idx); ok && err == nil && i >= 0 && i < len(l.pos) {
+			return l.pos[i]
+		}
 	}
 	return p.ValuePos
 }
@@ -326,25 +344,31 @@ func (s *Study) CorrelationPos(k int) Pos {
 // CorrelationError turns an error the sampler reports about correlation
 // entry k (0-based, Correlations order; -1 or out of range for the whole
 // matrix) into a study error at that entry's position, with the path
-// "correlations[k]" (or "correlations"). Err is cause, so errors.Is still
-// sees the sampler's own sentinels; the message is cause's text.
+// "correlations[k]" (or "correlations"). Err is cause, so errors.Is and
+// errors.As still see the sampler's own error; the message is cause's
+// text without a leading "correlations[k]: ", which the path already says.
 func (s *Study) CorrelationError(k int, cause error) *Error {
 	path := "correlations"
 	if k >= 0 && k < len(s.Correlations) {
 		path = fmt.Sprintf("correlations[%d]", k)
 	}
 	pos := s.CorrelationPos(k)
-	return &Error{File: s.Source, Line: pos.Line, Column: pos.Column, Path: path, Err: cause, Msg: cause.Error()}
+	return &Error{File: s.Source, Line: pos.Line, Column: pos.Column, Path: path, Err: cause, Msg: trimPrefixes(cause.Error(), path)}
 }
 
 // ParameterError turns an error found later about parameter p (for
-// example a sampler.FieldError for field, or "" for the parameter as a
-// whole) into a study error at the field's position with the path
-// "parameters.<name>[.field]". Err is cause; the message is its text.
+// example a sampler error about its field, "" for the parameter as a
+// whole) into a study error at the field's position, or the parameter's,
+// with the path "parameters.<name>[.field]". Err is cause; the message is
+// its text without a leading "<name>.<field>: ", "<name>: " or
+// "<field>: ", which the path already says.
 func (s *Study) ParameterError(p engine.Param, field string, cause error) *Error {
-	path := "parameters." + p.String()
+	name := p.String()
+	path := "parameters." + name
+	prefixes := []string{path, name}
 	if field != "" {
 		path += "." + field
+		prefixes = []string{path, name + "." + field, field, name}
 	}
 	pos := s.parametersPos
 	if q, ok := s.Lookup(p); ok {
@@ -353,5 +377,15 @@ func (s *Study) ParameterError(p engine.Param, field string, cause error) *Error
 			pos = q.FieldPos(field)
 		}
 	}
-	return &Error{File: s.Source, Line: pos.Line, Column: pos.Column, Path: path, Err: cause, Msg: cause.Error()}
+	return &Error{File: s.Source, Line: pos.Line, Column: pos.Column, Path: path, Err: cause, Msg: trimPrefixes(cause.Error(), prefixes...)}
+}
+
+// trimPrefixes removes the first of "<prefix>: " that msg starts with.
+func trimPrefixes(msg string, prefixes ...string) string {
+	for _, p := range prefixes {
+		if rest, ok := strings.CutPrefix(msg, p+": "); ok {
+			return rest
+		}
+	}
+	return msg
 }
