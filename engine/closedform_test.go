@@ -66,6 +66,19 @@ func TestQuadraticCoreyClosedForm(t *testing.T) {
 	if d := 2 * s * (1 - s) / math.Pow(2*s*s-2*s+1, 2); math.Abs(d-0.5) > 1e-12 {
 		t.Errorf("outlet state at tD=2 has f' = %.16g, want 0.5", d)
 	}
+	// Cut limit 0.98: f = S²/D = 0.98 ⇔ 0.02 S² = 0.98 (1 − S)² ⇔ S/(1 − S) = 7,
+	// so S = 7/8, D = 0.78125, f'(7/8) = 2·(7/8)(1/8)/D² = 0.3584, tD = 1/f'
+	// = 2.790178…, recovery S + tD(1 − 0.98) = 0.930803…
+	sCut := 0.875
+	dCut := 2 * sCut * (1 - sCut) / math.Pow(2*sCut*sCut-2*sCut+1, 2)
+	var solver Solver
+	var r Result
+	p := DefaultParams()
+	solver.SolveCase(&p, []float64{1, 2, 3}, 0.98, &r)
+	if math.Abs(r.PVIAtCutLimit-1/dCut) > 1e-12 || math.Abs(r.RecoveryAtCutLimit-(sCut+0.02/dCut)) > 1e-12 {
+		t.Errorf("cut limit 0.98: tD = %.16g, recovery %.16g; want %.16g, %.16g",
+			r.PVIAtCutLimit, r.RecoveryAtCutLimit, 1/dCut, sCut+0.02/dCut)
+	}
 	if got := sol.PVIAtCut(1); !math.IsNaN(got) {
 		t.Errorf("cut never reaches 1 when f'(1) = 0, got tD = %g", got)
 	}

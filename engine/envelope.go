@@ -43,6 +43,10 @@ const minShock = 1e-7
 // the shock would only matter after more than 1e12 pore volumes.
 const minShockRise = 1e-12
 
+// nearlyOne is how close to 1 f(s1_init) may come before the envelope is
+// taken as one shock to S_b.
+const nearlyOne = 1e-12
+
 // tangencyTol is the saturation tolerance to which tangency points and
 // outlet states are solved.
 const tangencyTol = 1e-14
@@ -101,6 +105,8 @@ type scan struct {
 
 	collapsed  [4][2]int // hull edges whose shock could not be solved
 	ncollapsed int
+
+	minWidth, minRise float64 // minShock and minShockRise scaled to the case
 }
 
 // chord is a shock of the envelope between contact points p < q, found
@@ -285,8 +291,21 @@ func (sc *scan) fanEdge(i int) bool {
 func (sc *scan) envelope(sol *Solution) {
 	ff := &sol.Flow
 	a, b := sol.Init, sol.Inlet
+	sol.n = 0
+	if 1-sol.FInit <= nearlyOne {
+		// The initial state already flows at f = 1 to within rounding: f
+		// cannot be resolved between 1 − 1e-12 and 1, and the envelope is
+		// taken as the single chord to S_b (it differs from the exact one
+		// by less than 1e-12 in f).
+		sol.addShock(a, b)
+		return
+	}
 	sc.build(ff, a, b)
 	sc.ncollapsed = 0
+	// The thresholds shrink with the problem: a range [s1_init, S_b] only
+	// 1e-9 wide (s1_init just below 1 − s2r) is one shock of that width.
+	sc.minWidth = min(minShock, 1e-4*(b-a))
+	sc.minRise = min(minShockRise, 1e-4*(1-sc.y[0]))
 
 	var nc int
 	for range maxBumpRounds {
@@ -325,7 +344,7 @@ func (sc *scan) chordsOfHull(ff *FracFlow) int {
 		if j == i+1 && sc.fanEdge(i) {
 			continue
 		}
-		if sc.y[j]-sc.y[i] <= minShockRise {
+		if sc.y[j]-sc.y[i] <= sc.minRise {
 			// Rounding noise where f is flat (f ≈ 1 near S_b).
 			continue
 		}
@@ -339,7 +358,14 @@ func (sc *scan) chordsOfHull(ff *FracFlow) int {
 			c = chord{i: prev.i, j: c.j, p: prev.p, q: c.q}
 			sc.refine(ff, &c)
 		}
-		if c.q-c.p > minShock && sc.fAt(ff, c.q)-sc.fAt(ff, c.p) > minShockRise {
+		// A shock from s1_init or to S_b is kept however narrow: its one
+		// tangency is well conditioned, and the front may be all there is
+		// (with R ≪ 1 and n1 ≈ 1 the whole S-curve lies within Se < 1e-5).
+		width := sc.minWidth
+		if c.p == sc.x[0] || c.q == sc.x[sc.n-1] {
+			width = 0
+		}
+		if c.q-c.p > width && sc.fAt(ff, c.q)-sc.fAt(ff, c.p) > sc.minRise {
 			sc.chords[nc] = c
 			nc++
 		} else if sc.convexBetween(i, j) && sc.ncollapsed < len(sc.collapsed) {

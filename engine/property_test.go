@@ -88,6 +88,18 @@ func TestEnvelopeProperties(t *testing.T) {
 		if bad := finiteOutputs(&res, &p); bad != "" {
 			t.Errorf("%v: %s not finite: %+v", p, bad, res)
 		}
+		// The batch path (grid-narrowed brackets) agrees with the plain
+		// Solution methods.
+		for i, x := range pvi {
+			if w := sol.Recovery(x); math.Abs(res.RecoveryAt[i]-w) > 1e-10 {
+				t.Errorf("%v: SolveCase recovery at %v PVI = %v, Solution.Recovery = %v", p, x, res.RecoveryAt[i], w)
+			}
+		}
+		if w := sol.PVIAtCut(0.98); !math.IsNaN(w) {
+			if got := res.RecoveryAtCutLimit; math.Abs(got-sol.Recovery(w)) > 1e-10 {
+				t.Errorf("%v: SolveCase recovery at cut limit = %v, Solution gives %v", p, got, sol.Recovery(w))
+			}
+		}
 		prev := 0.0
 		for i, r := range res.RecoveryAt {
 			if r < prev-1e-12 || r < -1e-15 || r > res.MaxRecovery+1e-12 {

@@ -173,7 +173,7 @@ func (sol *Solution) fanState(p *Piece, xi float64, sc *scan) (s, f float64) {
 	if sc != nil {
 		lo, hi, glo, ghi = sc.narrow(lo, hi, glo, ghi, func(k int) float64 { return sc.dy[k] - xi })
 	}
-	var fe float64 // f at the last point evaluated
+	fe := math.NaN() // f at the last point evaluated, if any
 	s, se, _ := solveBracketAt(lo, hi, glo, ghi, func(s float64) (float64, float64) {
 		f, df, d2f := sol.Flow.Eval(s)
 		fe = f
@@ -182,6 +182,10 @@ func (sol *Solution) fanState(p *Piece, xi float64, sc *scan) (s, f float64) {
 	if p.Hi == sol.Inlet && sol.Inlet-s < snapTol {
 		// Within rounding of S_b, where f'' may be huge: take the end state.
 		return sol.Inlet, 1
+	}
+	if math.IsNaN(fe) {
+		// The root was a bracket end (a grid point where f' = xi exactly).
+		return s, sol.Flow.F(s)
 	}
 	if s == se {
 		return s, fe

@@ -3,6 +3,19 @@
 // correlations ([Spearman]) and variance-based sensitivity indices
 // ([SobolIndices]). Its functions work on plain []float64 columns.
 //
+// On top of these it runs a study's sensitivity analyses and builds its
+// report tables (DESIGN §6). [NewInputs] describes the uncertain inputs of
+// a study: a base case at the medians and the uncertain leaders with their
+// same_as followers. [Tornado] moves each leader alone to its low and high
+// quantile; [Sobol] solves Saltelli's design in parallel, bit-identically
+// for any worker count, under [SobolAssumption] (independent inputs). The
+// table functions [SummaryTable], [Curves] and [SpearmanTable] read the
+// case outputs through a column source, func(name string) ([]float64,
+// error), which returns the named column of cases.arrow in case order as a
+// fresh slice that the table function may reorder; they read one column at
+// a time (SpearmanTable holds its parameter columns), and wrap the
+// source's errors with the column's name.
+//
 // # Percentile conventions
 //
 // A label P<x> means a different quantile under each [Convention]. Under
@@ -48,5 +61,7 @@
 // else, so a summary needs the memory of one column. [Ranks] and [Spearman]
 // run in O(n) time by radix sorting, with scratch of a few columns;
 // [SpearmanEach] correlates one output with many inputs ranking the output
-// once. [SobolIndices] holds its input plus one resample of it.
+// once. [SobolIndices] holds its input plus one resample of it. [Sobol]
+// holds the outputs of all n·(d+2) runs, and [SpearmanTable] all the
+// parameter columns (their doc comments give the sizes).
 package summarize
