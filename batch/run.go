@@ -182,15 +182,13 @@ func Run(ctx context.Context, st *studies.Study, opt Options) (*Info, error) {
 		info.Rejected += n
 	}
 
+	info.Files = []string{CasesFile}
 	if err := writeSummaries(ctx, st, design, stage, workers, opt, mem, info); err != nil {
 		return nil, err
 	}
 	info.Seconds["summaries"] = now().Sub(solved).Seconds()
-	if err := writeReport(st, stage, info, mem); err != nil {
-		return nil, err
-	}
 	info.Seconds["total"] = now().Sub(start).Seconds()
-	info.Files = []string{CasesFile, SummaryFile, TornadoFile, SensitivityFile, CurvesFile, ReportFile, RunFile}
+	info.Files = append(info.Files, RunFile)
 	js, err := json.MarshalIndent(info, "", "  ")
 	if err != nil {
 		return nil, err

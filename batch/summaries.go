@@ -2,19 +2,276 @@ package batch
 
 import (
 	"context"
+	"fmt"
+	"math"
+	"path/filepath"
 
 	"github.com/apache/arrow/go/v17/arrow/memory"
 
+	"github.com/sweepstat/sweepstat/engine"
 	"github.com/sweepstat/sweepstat/sampler"
 	"github.com/sweepstat/sweepstat/studies"
+	"github.com/sweepstat/sweepstat/summarize"
 )
 
-// writeSummaries computes the summary tables from the written cases file.
+// SpearmanMaxRows is the most cases the Spearman table uses: the first
+// SpearmanMaxRows of a larger run (their sampling error, about 1/√n, is
+// then below 0.001). It bounds the table's memory, which holds every
+// uncertain parameter's column at once.
+const SpearmanMaxRows = 1_000_000
+
+// SobolBootstrap is the number of bootstrap resamples of the Sobol
+// confidence bounds.
+const SobolBootstrap = 200
+
+// PercentileLevel is the confidence level of the order-statistic
+// intervals of P90/P50/P10 in summary.arrow.
+const PercentileLevel = 0.95
+
+// sobolSeed derives the Sobol design's seed from the study seed, so that
+// the Sobol streams differ from the sampling ones.
+func sobolSeed(seed uint64) uint64 { return seed*0x9e3779b97f4a7c15 + 0x5b01 }
+
+// writeSummaries computes every summary table from the cases file in dir
+// (column by column, so memory is bounded by one column plus the Spearman
+// table's), writes them, and renders the report.
 func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, dir string, workers int, opt Options, mem memory.Allocator, info *Info) error {
+	casesPath := filepath.Join(dir, CasesFile)
+	column := func(name string) ([]float64, error) {
+		cols, err := ReadFloat64Columns(casesPath, []string{name}, mem)
+		if err != nil {
+			return nil, err
+		}
+		return cols[0], nil
+	}
+	conv, err := summarize.ParseConvention(st.Report.Percentiles)
+	if err != nil {
+		return err
+	}
+	pvi, cut := st.Report.PVI, st.Report.CutLimit
+	var outputs []string
+	for _, o := range engine.Outputs(pvi) {
+		outputs = append(outputs, o.Name)
+	}
+	data := &reportData{Info: info, Study: st, Convention: st.Report.Percentiles, Keys: keyOutputs(pvi)}
+	phase := func(name string, total int) func() {
+		if opt.Progress == nil {
+			return func() {}
+		}
+		opt.Progress.Start(st.Name, name, total)
+		return opt.Progress.Finish
+	}
+
+	done := phase("summaries", len(outputs)+2*len(pvi))
+	counted := func(name string) ([]float64, error) {
+		col, err := column(name)
+		if opt.Progress != nil {
+			opt.Progress.Add(1)
+		}
+		return col, err
+	}
+	data.Summary, err = summarize.SummaryTable(outputs, counted, conv, PercentileLevel)
+	if err == nil {
+		data.Curves, err = summarize.Curves(pvi, counted, conv)
+	}
+	done()
+	if err != nil {
+		return fmt.Errorf("summaries: %w", err)
+	}
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+
+	in, err := summarize.NewInputs(st, d)
+	if err != nil {
+		return err
+	}
+	done = phase("tornado", 2*len(in.Leaders)+1)
+	data.Tornado = summarize.Tornado(in, pvi, cut, st.Tornado.Low, st.Tornado.High)
+	if opt.Progress != nil {
+		opt.Progress.Add(2*len(in.Leaders) + 1)
+	}
+	done()
+
+	spearmanColumn := func(name string) ([]float64, error) {
+		col, err := column(name)
+		if len(col) > SpearmanMaxRows {
+			col = col[:SpearmanMaxRows:SpearmanMaxRows]
+		}
+		return col, err
+	}
+	data.Spearman, err = summarize.SpearmanTable(outputs, in.Names(), spearmanColumn)
+	if err != nil {
+		return fmt.Errorf("sensitivity: %w", err)
+	}
+	if n := st.Sensitivity.Sobol; n > 0 && len(in.Leaders) > 0 {
+		runs := n * (len(in.Leaders) + 2)
+		var progress func(int)
+		if opt.Progress != nil {
+			opt.Progress.Start(st.Name, "sobol", runs)
+			last := 0
+			progress = func(k int) { opt.Progress.Add(k - last); last = k }
+		}
+		data.Sobol, err = summarize.Sobol(ctx, in, pvi, cut, n, sobolSeed(st.Seed), workers, SobolBootstrap, progress)
+		if opt.Progress != nil {
+			opt.Progress.Finish()
+		}
+		if err != nil {
+			return err
+		}
+	}
+
+	if err := writeTable(filepath.Join(dir, SummaryFile), summaryTable(data.Summary), mem); err != nil {
+		return err
+	}
+	if err := writeTable(filepath.Join(dir, CurvesFile), curvesTable(data.Curves), mem); err != nil {
+		return err
+	}
+	if err := writeTable(filepath.Join(dir, TornadoFile), tornadoTable(data.Tornado), mem); err != nil {
+		return err
+	}
+	if err := writeTable(filepath.Join(dir, SensitivityFile), sensitivityTable(data.Spearman, data.Sobol), mem); err != nil {
+		return err
+	}
+	info.Files = append(info.Files, SummaryFile, CurvesFile, TornadoFile, SensitivityFile)
+	if err := writeReportHTML(dir, data); err != nil {
+		return err
+	}
+	info.Files = append(info.Files, ReportFile)
 	return nil
 }
 
-// writeReport writes report.html.
-func writeReport(st *studies.Study, dir string, info *Info, mem memory.Allocator) error {
-	return nil
+// keyOutputs are the outputs the report shows rankings for: breakthrough,
+// recovery at the cut limit and recovery at each checkpoint.
+func keyOutputs(pvi []float64) map[string]bool {
+	keys := map[string]bool{engine.ColBreakthroughPVI: true, engine.ColRecoveryAtCutLimit: true}
+	for _, x := range pvi {
+		keys[engine.CheckpointColumn("recovery", x)] = true
+	}
+	return keys
+}
+
+func summaryTable(rows []summarize.SummaryRow) *Table {
+	n := len(rows)
+	names := make([]string, n)
+	counts, rejected := make([]int64, n), make([]int64, n)
+	for i, r := range rows {
+		names[i] = r.Output
+		counts[i], rejected[i] = int64(r.N), int64(r.NRejected)
+	}
+	t := &Table{}
+	t.Add("output", "", names)
+	t.Add("n", "", counts)
+	t.Add("n_rejected", "", rejected)
+	get := func(f func(r *summarize.SummaryRow) float64) []float64 {
+		out := make([]float64, n)
+		for i := range rows {
+			out[i] = f(&rows[i])
+		}
+		return out
+	}
+	t.Add("mean", "", get(func(r *summarize.SummaryRow) float64 { return r.Mean }))
+	t.Add("sd", "", get(func(r *summarize.SummaryRow) float64 { return r.SD }))
+	t.Add("min", "", get(func(r *summarize.SummaryRow) float64 { return r.Min }))
+	t.Add("max", "", get(func(r *summarize.SummaryRow) float64 { return r.Max }))
+	t.Add("p90", "", get(func(r *summarize.SummaryRow) float64 { return r.P90 }))
+	t.Add("p50", "", get(func(r *summarize.SummaryRow) float64 { return r.P50 }))
+	t.Add("p10", "", get(func(r *summarize.SummaryRow) float64 { return r.P10 }))
+	t.Add("swanson_mean", "", get(func(r *summarize.SummaryRow) float64 { return r.SwansonMean }))
+	t.Add("p90_low", "", get(func(r *summarize.SummaryRow) float64 { return r.P90Low }))
+	t.Add("p90_high", "", get(func(r *summarize.SummaryRow) float64 { return r.P90High }))
+	t.Add("p50_low", "", get(func(r *summarize.SummaryRow) float64 { return r.P50Low }))
+	t.Add("p50_high", "", get(func(r *summarize.SummaryRow) float64 { return r.P50High }))
+	t.Add("p10_low", "", get(func(r *summarize.SummaryRow) float64 { return r.P10Low }))
+	t.Add("p10_high", "", get(func(r *summarize.SummaryRow) float64 { return r.P10High }))
+	return t
+}
+
+func curvesTable(rows []summarize.CurveRow) *Table {
+	t := &Table{}
+	get := func(f func(r *summarize.CurveRow) float64) []float64 {
+		out := make([]float64, len(rows))
+		for i := range rows {
+			out[i] = f(&rows[i])
+		}
+		return out
+	}
+	t.Add("pvi", "PVI", get(func(r *summarize.CurveRow) float64 { return r.PVI }))
+	t.Add("recovery_p90", "fraction", get(func(r *summarize.CurveRow) float64 { return r.RecoveryP90 }))
+	t.Add("recovery_p50", "fraction", get(func(r *summarize.CurveRow) float64 { return r.RecoveryP50 }))
+	t.Add("recovery_p10", "fraction", get(func(r *summarize.CurveRow) float64 { return r.RecoveryP10 }))
+	t.Add("cut_p90", "fraction", get(func(r *summarize.CurveRow) float64 { return r.CutP90 }))
+	t.Add("cut_p50", "fraction", get(func(r *summarize.CurveRow) float64 { return r.CutP50 }))
+	t.Add("cut_p10", "fraction", get(func(r *summarize.CurveRow) float64 { return r.CutP10 }))
+	return t
+}
+
+func tornadoTable(rows []summarize.TornadoRow) *Table {
+	n := len(rows)
+	out, par := make([]string, n), make([]string, n)
+	rank := make([]int64, n)
+	for i, r := range rows {
+		out[i], par[i], rank[i] = r.Output, r.Parameter, int64(r.Rank)
+	}
+	get := func(f func(r *summarize.TornadoRow) float64) []float64 {
+		v := make([]float64, n)
+		for i := range rows {
+			v[i] = f(&rows[i])
+		}
+		return v
+	}
+	t := &Table{}
+	t.Add("output", "", out)
+	t.Add("parameter", "", par)
+	t.Add("input_low", "", get(func(r *summarize.TornadoRow) float64 { return r.InputLow }))
+	t.Add("input_base", "", get(func(r *summarize.TornadoRow) float64 { return r.InputBase }))
+	t.Add("input_high", "", get(func(r *summarize.TornadoRow) float64 { return r.InputHigh }))
+	t.Add("output_base", "", get(func(r *summarize.TornadoRow) float64 { return r.OutputBase }))
+	t.Add("output_at_low", "", get(func(r *summarize.TornadoRow) float64 { return r.OutputAtLow }))
+	t.Add("output_at_high", "", get(func(r *summarize.TornadoRow) float64 { return r.OutputAtHigh }))
+	t.Add("swing", "", get(func(r *summarize.TornadoRow) float64 { return r.Swing }))
+	t.Add("rank", "", rank)
+	return t
+}
+
+// sensitivityTable joins the Spearman rows with the Sobol rows of the same
+// output and parameter (NaN where Sobol indices were not asked for).
+func sensitivityTable(sp []summarize.SpearmanRow, sobol []summarize.SobolRow) *Table {
+	type key struct{ o, p string }
+	idx := make(map[key]int, len(sobol))
+	for i, r := range sobol {
+		idx[key{r.Output, r.Parameter}] = i
+	}
+	n := len(sp)
+	out, par := make([]string, n), make([]string, n)
+	nsp, nsob := make([]int64, n), make([]int64, n)
+	rho := make([]float64, n)
+	vals := make([][]float64, 6)
+	for k := range vals {
+		vals[k] = make([]float64, n)
+	}
+	for i, r := range sp {
+		out[i], par[i], rho[i], nsp[i] = r.Output, r.Parameter, r.Spearman, int64(r.N)
+		j, ok := idx[key{r.Output, r.Parameter}]
+		for k := range vals {
+			vals[k][i] = math.NaN()
+		}
+		if ok {
+			s := sobol[j]
+			for k, v := range []float64{s.First, s.FirstLow, s.FirstHigh, s.Total, s.TotalLow, s.TotalHigh} {
+				vals[k][i] = v
+			}
+			nsob[i] = int64(s.N)
+		}
+	}
+	t := &Table{}
+	t.Add("output", "", out)
+	t.Add("parameter", "", par)
+	t.Add("spearman", "", rho)
+	t.Add("n_spearman", "", nsp)
+	for k, name := range []string{"sobol_first", "sobol_first_low", "sobol_first_high", "sobol_total", "sobol_total_low", "sobol_total_high"} {
+		t.Add(name, "", vals[k])
+	}
+	t.Add("n_sobol", "", nsob)
+	return t
 }
