@@ -463,9 +463,19 @@ func (sc *scan) refine(ff *FracFlow, c *chord) {
 		c.p = sc.x[0]
 		c.q = sc.upperEnd(ff, c.j, c.p)
 	}
+	solvedFor := math.NaN() // the p that c.q was last solved from
+	if c.i == 0 {
+		solvedFor = c.p
+	}
 	for range 8 {
 		p := sc.lowerEnd(ff, c.i, c.q)
+		if p == solvedFor {
+			// q was solved from this very p: both ends are consistent.
+			c.p = p
+			return
+		}
 		q := sc.upperEnd(ff, c.j, p)
+		solvedFor = p
 		done := math.Abs(p-c.p) <= tangencyTol && math.Abs(q-c.q) <= tangencyTol
 		c.p, c.q = p, q
 		if done {
