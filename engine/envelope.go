@@ -149,14 +149,7 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 	for hi > lo && t.se[hi-1] >= ub {
 		hi--
 	}
-	var corey Corey
-	isCorey := false
-	switch c := ff.Rel.(type) {
-	case Corey:
-		corey, isCorey = c, true
-	case *Corey:
-		corey, isCorey = *c, true
-	}
+	corey, isCorey := ff.Rel.(*Corey)
 	if hi-lo >= minTablePoints {
 		ispan := 1 / span
 		eval := func(k int) (s, f, df, d2f float64) {

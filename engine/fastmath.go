@@ -1,9 +1,6 @@
 package engine
 
-import (
-	"math"
-	"sync"
-)
+import "math"
 
 // The relative-permeability curves need x^n for 0 < x < 1 millions of
 // times a second. exp and log here are table-driven and written in plain
@@ -20,29 +17,10 @@ const (
 	logTableSize = 1 << logTableBits // centres 1 + (i + ½)/256 of [1, 2)
 )
 
-// mathTables holds the tables of fastExp and fastLog. They are computed
-// once from the math package's own functions (to half an ulp) and never
-// written again.
-type mathTables struct {
-	exp2 [expTableSize]float64 // 2^(j/64)
-	inv  [logTableSize]float64 // 1/c_i
-	logc [logTableSize]float64 // ln c_i
-}
-
-var tables = sync.OnceValue(func() *mathTables {
-	t := new(mathTables)
-	for j := range t.exp2 {
-		t.exp2[j] = math.Exp2(float64(j) / expTableSize)
-	}
-	for i := range t.inv {
-		c := 1 + (float64(i)+0.5)/logTableSize
-		t.inv[i] = 1 / c
-		// ln of the rounded reciprocal's inverse, so that m·inv − 1 and
-		// ln(1/inv) describe the same number exactly.
-		t.logc[i] = -math.Log(t.inv[i])
-	}
-	return t
-})
+// The tables (exp2Table, invTable, logcTable) are literals in
+// fastmath_tables.go, written by TestFastMathTables -update-tables from the
+// math package's own functions (to half an ulp), so every build and every
+// CPU uses the same bits.
 
 // ln 2/64 split into a part with trailing zero bits and the rest, so that
 // k·ln2Hi is exact for the k that occur (Cody & Waite 1980 reduction).
@@ -68,7 +46,6 @@ func fastExp(x float64) float64 {
 	case x > expOverflow:
 		return math.Inf(1)
 	}
-	t := tables()
 	// Round x·64/ln2 to an integer by adding 1.5·2^52, which leaves the
 	// integer in the low mantissa bits (round to nearest even).
 	const shifter = 0x1.8p52
@@ -86,7 +63,7 @@ func fastExp(x float64) float64 {
 	er := 1 + (r + p)
 	j := k & (expTableSize - 1)
 	e := k >> expTableBits
-	v := float64(t.exp2[j] * er)
+	v := float64(exp2Table[j] * er)
 	if e >= -1021 {
 		// A normal result: multiply by 2^e built from its bits.
 		return float64(v * math.Float64frombits(uint64(e+1023)<<52))
@@ -116,8 +93,7 @@ func fastLog(x float64) float64 {
 	e += int(bits>>52) - 1023
 	m := math.Float64frombits(bits&(1<<52-1) | 1023<<52) // in [1, 2)
 	i := int((bits >> (52 - logTableBits)) & (logTableSize - 1))
-	t := tables()
-	r := float64(m*t.inv[i]) - 1
+	r := float64(m*invTable[i]) - 1
 	// ln(1 + r) − r by Horner.
 	p := float64(r * (1.0 / 5))
 	p = float64(r * (p - 1.0/4))
@@ -125,5 +101,5 @@ func fastLog(x float64) float64 {
 	p = float64(r * (p - 0.5))
 	p = float64(r * p)
 	ef := float64(e)
-	return float64(ef*ln2Hi) + (t.logc[i] + (r + (p + float64(ef*ln2Lo))))
+	return float64(ef*ln2Hi) + (logcTable[i] + (r + (p + float64(ef*ln2Lo))))
 }

@@ -57,7 +57,8 @@ type FracFlow struct {
 // NewFracFlow returns the Corey fractional flow of the case p. It does not
 // validate p; see [Params.Validate].
 func NewFracFlow(p *Params) FracFlow {
-	return FracFlow{Rel: coreyOf(p), R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
+	c := coreyOf(p)
+	return FracFlow{Rel: &c, R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
 }
 
 func coreyOf(p *Params) Corey {

@@ -37,17 +37,17 @@ type Corey struct {
 	N1, N2         float64
 }
 
-var _ RelPerm = Corey{}
+var _ RelPerm = (*Corey)(nil)
 
 // Residuals returns S1r and S2r.
-func (c Corey) Residuals() (s1r, s2r float64) { return c.S1r, c.S2r }
+func (c *Corey) Residuals() (s1r, s2r float64) { return c.S1r, c.S2r }
 
 // Eval returns the Corey relative permeabilities at saturation s with their
 // derivatives. Outside the mobile range the derivatives of the immobile
 // phase's curve are zero; at the end points they take their one-sided
 // limits, which are infinite for an exponent below one; beyond the end
 // points the curves are flat.
-func (c Corey) Eval(s float64) RelPermValue {
+func (c *Corey) Eval(s float64) RelPermValue {
 	span := 1 - c.S1r - c.S2r
 	se := (s - c.S1r) / span
 	// The end points are compared in saturation, so that S = s1r and
@@ -77,7 +77,7 @@ func (c Corey) Eval(s float64) RelPermValue {
 
 // evalLog is Eval at an interior Se given ln Se, ln(1 − Se), 1/Se and
 // 1/(1 − Se), and 1/(1 − S1r − S2r), for the scan's fixed grid.
-func (c Corey) evalLog(se, l1, l2, inv1, inv2, ispan float64) RelPermValue {
+func (c *Corey) evalLog(se, l1, l2, inv1, inv2, ispan float64) RelPermValue {
 	var v RelPermValue
 	v.Kr1 = c.Kr1Max * powLog(se, l1, c.N1)
 	v.Kr2 = c.Kr2Max * powLog(1-se, l2, c.N2)
@@ -91,7 +91,7 @@ func (c Corey) evalLog(se, l1, l2, inv1, inv2, ispan float64) RelPermValue {
 
 // inner returns the curves for 0 < se < 1 from p1 = se^N1 and
 // p2 = (1 − se)^N2.
-func (c Corey) inner(se, p1, p2, span float64) RelPermValue {
+func (c *Corey) inner(se, p1, p2, span float64) RelPermValue {
 	var v RelPermValue
 	a, b := 1/(se*span), 1/((1-se)*span)
 	v.Kr1 = c.Kr1Max * p1
