@@ -37,13 +37,6 @@ func sobolSeed(seed uint64) uint64 { return seed*0x9e3779b97f4a7c15 + 0x5b01 }
 // table's), writes them, and renders the report.
 func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, dir string, workers int, opt Options, mem memory.Allocator, info *Info) error {
 	casesPath := filepath.Join(dir, CasesFile)
-	column := func(name string) ([]float64, error) {
-		cols, err := ReadFloat64Columns(casesPath, []string{name}, mem)
-		if err != nil {
-			return nil, err
-		}
-		return cols[0], nil
-	}
 	conv, err := summarize.ParseConvention(st.Report.Percentiles)
 	if err != nil {
 		return err
@@ -53,6 +46,13 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 	for _, o := range engine.Outputs(pvi) {
 		outputs = append(outputs, o.Name)
 	}
+	// The summaries ask for the outputs in order, then the checkpoint
+	// columns again for the curves; read them in groups along that plan.
+	plan := append([]string(nil), outputs...)
+	for _, x := range pvi {
+		plan = append(plan, engine.CheckpointColumn("recovery", x), engine.CheckpointColumn("cut", x))
+	}
+	column := newColumnSource(casesPath, mem, st.Cases, 0, plan).column
 	data := &reportData{Info: info, Study: st, Convention: st.Report.Percentiles, Keys: keyOutputs(pvi)}
 	phase := func(name string, total int) func() {
 		if opt.Progress == nil {
@@ -93,13 +93,10 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 	}
 	done()
 
-	spearmanColumn := func(name string) ([]float64, error) {
-		col, err := column(name)
-		if len(col) > SpearmanMaxRows {
-			col = col[:SpearmanMaxRows:SpearmanMaxRows]
-		}
-		return col, err
-	}
+	// Spearman reads the first SpearmanMaxRows cases only: the parameter
+	// columns first (all held at once), then each output.
+	spearmanPlan := append(in.Names(), outputs...)
+	spearmanColumn := newColumnSource(casesPath, mem, st.Cases, SpearmanMaxRows, spearmanPlan).column
 	data.Spearman, err = summarize.SpearmanTable(outputs, in.Names(), spearmanColumn)
 	if err != nil {
 		return fmt.Errorf("sensitivity: %w", err)
