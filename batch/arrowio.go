@@ -187,7 +187,9 @@ func writeTable(path string, t *Table, mem memory.Allocator) error {
 var ErrCorrupt = errors.New("not a complete Arrow IPC file")
 
 // openIPC opens an Arrow IPC file for reading. Malformed files give an
-// error wrapping ErrCorrupt and naming the file, never a panic.
+// error wrapping ErrCorrupt and naming the file, never a panic: the
+// metadata lengths the Arrow reader allocates by are checked first
+// (checkIPC), and its panics on malformed bodies are recovered.
 func openIPC(path string, mem memory.Allocator) (r *ipc.FileReader, f *os.File, err error) {
 	f, err = os.Open(path)
 	if err != nil {
@@ -201,6 +203,16 @@ func openIPC(path string, mem memory.Allocator) (r *ipc.FileReader, f *os.File, 
 			f.Close()
 		}
 	}()
+	fi, err := f.Stat()
+	if err != nil {
+		return nil, nil, fmt.Errorf("reading %s: %w", path, err)
+	}
+	if fi.IsDir() {
+		return nil, nil, fmt.Errorf("reading %s: %w (a folder)", path, ErrCorrupt)
+	}
+	if err := checkIPC(f, fi.Size()); err != nil {
+		return nil, nil, fmt.Errorf("reading %s: %w (%v)", path, ErrCorrupt, err)
+	}
 	r, err = ipc.NewFileReader(f, ipc.WithAllocator(mem))
 	if err != nil {
 		return nil, nil, fmt.Errorf("reading %s: %w (%v)", path, ErrCorrupt, err)

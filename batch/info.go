@@ -18,7 +18,16 @@ type Info struct {
 	Seconds     map[string]float64 `json:"seconds"` // wall time by phase
 	CasesPerSec float64            `json:"cases_per_second"`
 	Files       []string           `json:"files"`
+	SHA256      map[string]string  `json:"sha256,omitempty"` // of each file of Files but run.json
+	Shards      int                `json:"shards,omitempty"` // shards merged into these outputs; 0 for one run
 	Caution     string             `json:"caution"`
+
+	// Shard is "K/N" in the Info Run returns for a shard; such an Info
+	// describes the shard's cases only and is not written to run.json.
+	Shard string `json:"-"`
+	// Skipped is set in the Info Run returns when Options.Resume found
+	// the outputs complete and kept them.
+	Skipped bool `json:"-"`
 }
 
 // Caution is the statement every report and run.json carries.

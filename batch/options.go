@@ -22,6 +22,20 @@ type Options struct {
 	Version   string           // program version, written to run.json
 	Alloc     memory.Allocator // nil means memory.DefaultAllocator
 	Now       func() time.Time // clock for run.json timings; nil means time.Now
+
+	// Shard, when not zero, makes Run solve only that shard of the cases
+	// and write it into Out/<study name>/shards/ (see [RunShard]).
+	Shard Shard
+	// Resume keeps outputs that are complete and match the study, seed
+	// and version (checked by their SHA-256 sums) and redoes any other:
+	// Run then returns the kept outputs' Info with Skipped set. Force is
+	// then redundant.
+	Resume bool
+	// Source is the study file's bytes, which a shard stores so that a
+	// merge can parse the study again. Nil means reading st.Source again
+	// (the embedded text for the demo study). Either way its SHA-256 must
+	// be st.Hash.
+	Source []byte
 }
 
 // DefaultBatchRows is the number of cases per record batch of cases.arrow.

@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"time"
 
 	"github.com/apache/arrow/go/v17/arrow"
@@ -129,81 +130,197 @@ func (w *worker) solveChunk(st *studies.Study, outs []engine.Output, c *chunk) {
 // written into a hidden staging folder that replaces the final folder
 // only when complete; an existing folder is kept unless opt.Force is set,
 // and is never removed before the new outputs are complete.
+//
+// With opt.Resume, an existing folder whose run.json matches st (study
+// hash, seed, cases), opt.Version and the SHA-256 of every file it lists
+// is kept: Run returns that Info with Skipped set. Any other existing
+// folder is replaced as with Force, except one holding shards that are not
+// merged yet (an error that is ErrExists).
+//
+// With opt.Shard set, Run runs [RunShard] instead and returns an Info
+// describing the shard (Info.Shard set), which it does not write.
 func Run(ctx context.Context, st *studies.Study, opt Options) (*Info, error) {
-	now := opt.Now
-	if now == nil {
-		now = time.Now
-	}
-	mem := opt.Alloc
-	if mem == nil {
-		mem = memory.DefaultAllocator
-	}
-	workers := opt.Workers
-	if workers <= 0 {
-		workers = runtime.NumCPU()
+	if !opt.Shard.IsZero() {
+		m, err := RunShard(ctx, st, opt)
+		if err != nil {
+			return nil, err
+		}
+		return m.info(st), nil
 	}
 	final := filepath.Join(opt.Out, st.Name)
-	if _, err := os.Stat(final); err == nil && !opt.Force {
-		return nil, fmt.Errorf("%s: %w", final, ErrExists)
+	if _, err := os.Stat(final); err == nil {
+		switch {
+		case opt.Resume:
+			if info := completeRun(final, st, opt.Version); info != nil {
+				info.Skipped = true
+				return info, nil
+			}
+			if pathExists(filepath.Join(final, ShardsDir)) {
+				return nil, fmt.Errorf("%s holds shards not merged yet (run sweepstat merge, or --force to replace the folder): %w", final, ErrExists)
+			}
+		case !opt.Force:
+			return nil, fmt.Errorf("%s: %w", final, ErrExists)
+		}
 	}
-	design, err := NewDesign(st)
+	r, err := newStudyRun(st, opt)
 	if err != nil {
 		return nil, err
 	}
-	stage := tempDirFor(final)
-	if err := os.RemoveAll(stage); err != nil {
-		return nil, err
-	}
-	if err := os.MkdirAll(stage, 0o755); err != nil {
+	if err := r.begin(); err != nil {
 		return nil, err
 	}
 	ok := false
 	defer func() {
 		if !ok {
-			os.RemoveAll(stage)
+			r.discard()
 		}
 	}()
 
-	start := now()
-	info := &Info{
-		Study: st.Name, Source: st.Source, StudyHash: st.Hash, Seed: st.Seed, Sampling: st.Sampling,
-		Version: opt.Version, Cases: st.Cases, Workers: workers, Percentiles: st.Report.Percentiles,
-		Started: start.UTC().Format(time.RFC3339), Seconds: map[string]float64{}, Caution: Caution,
-	}
-	rejected, err := writeCases(ctx, st, design, filepath.Join(stage, CasesFile), workers, opt, mem)
+	start := r.now()
+	info := r.info
+	info.Started = start.UTC().Format(time.RFC3339)
+	rejected, err := writeCases(ctx, st, r.design, filepath.Join(r.stage, CasesFile), 0, st.Cases, r.workers, r.opt, r.mem)
 	if err != nil {
 		return nil, err
 	}
-	solved := now()
+	solved := r.now()
 	info.Seconds["solve"] = solved.Sub(start).Seconds()
 	info.CasesPerSec = float64(st.Cases) / max(info.Seconds["solve"], 1e-9)
-	info.RejectedBy = rejected
-	for _, n := range rejected {
-		info.Rejected += n
-	}
-
-	info.Files = []string{CasesFile}
-	if err := writeSummaries(ctx, st, design, stage, workers, opt, mem, info); err != nil {
+	info.setRejected(rejected)
+	if err := r.finish(ctx, start, solved); err != nil {
 		return nil, err
 	}
-	info.Seconds["summaries"] = now().Sub(solved).Seconds()
-	info.Seconds["total"] = now().Sub(start).Seconds()
-	info.Files = append(info.Files, RunFile)
-	js, err := json.MarshalIndent(info, "", "  ")
-	if err != nil {
-		return nil, err
-	}
-	if err := writeFileAtomic(filepath.Join(stage, RunFile), append(js, '\n')); err != nil {
-		return nil, err
-	}
-	if err := ctx.Err(); err != nil {
-		return nil, err
-	}
-	if err := swapIn(stage, final); err != nil {
+	if err := swapIn(r.stage, r.final); err != nil {
 		return nil, err
 	}
 	ok = true
 	return info, nil
+}
+
+// studyRun is what writing one study's outputs needs; [Run] and [Merge]
+// share it: a staging folder is filled with cases.arrow (solved or
+// merged), then finish adds the summaries, the report and run.json.
+type studyRun struct {
+	st      *studies.Study
+	design  *sampler.Design
+	opt     Options
+	mem     memory.Allocator
+	workers int
+	now     func() time.Time
+	final   string // opt.Out/<study name>
+	stage   string // hidden staging folder beside final
+	info    *Info
+}
+
+// newStudyRun applies the defaults of opt and builds st's design.
+func newStudyRun(st *studies.Study, opt Options) (*studyRun, error) {
+	r := &studyRun{st: st, opt: opt, mem: opt.Alloc, workers: opt.Workers, now: opt.Now}
+	if r.now == nil {
+		r.now = time.Now
+	}
+	if r.mem == nil {
+		r.mem = memory.DefaultAllocator
+	}
+	if r.workers <= 0 {
+		r.workers = runtime.NumCPU()
+	}
+	r.opt.BatchRows = batchRows(opt)
+	var err error
+	if r.design, err = NewDesign(st); err != nil {
+		return nil, err
+	}
+	r.final = filepath.Join(opt.Out, st.Name)
+	r.stage = tempDirFor(r.final)
+	r.info = &Info{
+		Study: st.Name, Source: st.Source, StudyHash: st.Hash, Seed: st.Seed, Sampling: st.Sampling,
+		Version: opt.Version, Cases: st.Cases, Workers: r.workers, Percentiles: st.Report.Percentiles,
+		Seconds: map[string]float64{}, Caution: Caution,
+	}
+	return r, nil
+}
+
+// begin creates an empty staging folder.
+func (r *studyRun) begin() error {
+	if err := os.RemoveAll(r.stage); err != nil {
+		return fmt.Errorf("clearing staging folder %s: %w", r.stage, err)
+	}
+	if err := os.MkdirAll(r.stage, 0o755); err != nil {
+		return fmt.Errorf("creating staging folder %s: %w", r.stage, err)
+	}
+	return nil
+}
+
+// discard removes the staging folder.
+func (r *studyRun) discard() { os.RemoveAll(r.stage) }
+
+// finish writes the summaries and the report from the staged cases.arrow,
+// then run.json with the SHA-256 of every file. start is when the run
+// began, solved when cases.arrow was complete.
+func (r *studyRun) finish(ctx context.Context, start, solved time.Time) error {
+	info := r.info
+	info.Files = []string{CasesFile}
+	if err := writeSummaries(ctx, r.st, r.design, r.stage, r.workers, r.opt, r.mem, info); err != nil {
+		return err
+	}
+	info.SHA256 = make(map[string]string, len(info.Files))
+	for _, f := range info.Files {
+		sum, _, err := fileSHA256(filepath.Join(r.stage, f))
+		if err != nil {
+			return err
+		}
+		info.SHA256[f] = sum
+	}
+	info.Seconds["summaries"] = r.now().Sub(solved).Seconds()
+	info.Seconds["total"] = r.now().Sub(start).Seconds()
+	info.Files = append(info.Files, RunFile)
+	js, err := json.MarshalIndent(info, "", "  ")
+	if err != nil {
+		return err
+	}
+	if err := writeFileAtomic(filepath.Join(r.stage, RunFile), append(js, '\n')); err != nil {
+		return err
+	}
+	return ctx.Err()
+}
+
+// setRejected records the rejected cases by status.
+func (info *Info) setRejected(by map[string]int) {
+	info.RejectedBy = by
+	info.Rejected = 0
+	for _, n := range by {
+		info.Rejected += n
+	}
+}
+
+// completeRun returns the Info of the finished outputs in dir if they
+// belong to st and version and every file run.json lists is there with
+// its SHA-256; otherwise nil.
+func completeRun(dir string, st *studies.Study, version string) *Info {
+	data, err := os.ReadFile(filepath.Join(dir, RunFile))
+	if err != nil {
+		return nil
+	}
+	info := new(Info)
+	if json.Unmarshal(data, info) != nil || info.StudyHash != st.Hash || info.Seed != st.Seed ||
+		info.Cases != st.Cases || info.Version != version {
+		return nil
+	}
+	if !slices.Contains(info.Files, CasesFile) || len(info.SHA256) != len(info.Files)-1 {
+		return nil
+	}
+	for _, f := range info.Files {
+		if f == RunFile {
+			continue
+		}
+		want, ok := info.SHA256[f]
+		if !ok || filepath.IsAbs(f) || !filepath.IsLocal(f) {
+			return nil
+		}
+		if sum, _, err := fileSHA256(filepath.Join(dir, f)); err != nil || sum != want {
+			return nil
+		}
+	}
+	return info
 }
 
 // swapIn moves the complete staging folder to final, replacing what was
@@ -223,10 +340,11 @@ func swapIn(stage, final string) error {
 	return os.RemoveAll(old)
 }
 
-// writeCases samples and solves every case in parallel and streams them
-// in case order into an Arrow IPC file. It returns the count of rejected
+// writeCases samples and solves the cases [lo, hi) in parallel and streams
+// them in case order into an Arrow IPC file, in record batches of
+// opt.BatchRows cases starting at lo. It returns the count of rejected
 // cases by status. Memory is bounded by 2·workers record batches.
-func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, workers int, opt Options, mem memory.Allocator) (map[string]int, error) {
+func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator) (map[string]int, error) {
 	outs := engine.Outputs(st.Report.PVI)
 	schema := casesSchema(outs)
 	w, err := newIPCWriter(path, schema, mem)
@@ -244,7 +362,7 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 		rows = DefaultBatchRows
 	}
 	if opt.Progress != nil {
-		opt.Progress.Start(st.Name, "solving", st.Cases)
+		opt.Progress.Start(st.Name, "solving", hi-lo)
 		defer opt.Progress.Finish()
 	}
 
@@ -274,14 +392,14 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 	// in the same order.
 	g.Go(func() error {
 		defer close(pending)
-		for s := 0; s < st.Cases; s += rows {
+		for s := lo; s < hi; s += rows {
 			var c *chunk
 			select {
 			case c = <-free:
 			case <-gctx.Done():
 				return gctx.Err()
 			}
-			c.start, c.count = s, min(rows, st.Cases-s)
+			c.start, c.count = s, min(rows, hi-s)
 			c.done = make(chan struct{})
 			pending <- c
 			g.Go(func() error {

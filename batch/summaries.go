@@ -131,10 +131,15 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 		return err
 	}
 	info.Files = append(info.Files, SummaryFile, CurvesFile, TornadoFile, SensitivityFile)
-	if err := writeReportHTML(dir, data); err != nil {
+	study, err := writeStudySource(dir, st, opt.Source)
+	if err != nil {
 		return err
 	}
-	info.Files = append(info.Files, ReportFile)
+	report, err := writeReport(ctx, dir, st, d, data, mem, opt.Progress, opt.Version)
+	if err != nil {
+		return err
+	}
+	info.Files = append(append(info.Files, study...), report...)
 	return nil
 }
 

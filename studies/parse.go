@@ -164,6 +164,11 @@ func (p *parser) syntax(data []byte, err error) {
 		// offending token is often later. Point at the first line at
 		// which the text stops parsing.
 		pos.Line = firstBadLine(data, pos.Line+1)
+	case strings.HasPrefix(msg, "found a tab character") && pos.Line > 0:
+		// The scanner names the line where the scalar before the tab
+		// starts (a plain scalar may go on over the next lines); the tab
+		// itself can be lines later.
+		pos.Line = firstBadLine(data, pos.Line)
 	case pos.Line == 0:
 		if m := yamlAnchor.FindStringSubmatch(msg); m != nil {
 			sigil := "*"

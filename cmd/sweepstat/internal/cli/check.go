@@ -4,8 +4,6 @@ import (
 	"fmt"
 
 	"github.com/spf13/cobra"
-
-	"github.com/sweepstat/sweepstat/studies"
 )
 
 // CheckOptions are the inputs of `sweepstat check`.
@@ -21,7 +19,9 @@ func NewCmdCheck(f *Factory, runF func(*CheckOptions) error) *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "check STUDY.yaml|DIR...",
 		Short: "Validate study files without running them",
-		Long: `Check reads and validates study files as run would, and runs nothing.
+		Long: `Check reads and validates study files as run would, builds each one's
+sampling design (which finds correlation matrices that are not positive
+definite), and runs nothing.
 
 For each good file it prints one line on stdout:
 
@@ -53,7 +53,7 @@ func CheckRun(opts *CheckOptions) error {
 	}
 	var bad []error
 	for _, file := range files {
-		st, err := studies.Load(file)
+		st, err := loadStudy(file)
 		if err != nil {
 			bad = append(bad, err)
 			continue

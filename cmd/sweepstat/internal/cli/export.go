@@ -6,6 +6,8 @@ import (
 	"io/fs"
 
 	"github.com/spf13/cobra"
+
+	"github.com/sweepstat/sweepstat/batch"
 )
 
 // ExportOptions are the inputs of `sweepstat export`.
@@ -25,7 +27,10 @@ func NewCmdExport(f *Factory, runF func(*ExportOptions) error) *cobra.Command {
 		Short: "Write an output table as CSV to stdout",
 		Long: `Export reads one of the Arrow IPC files a run writes (cases.arrow,
 summary.arrow, tornado.arrow, sensitivity.arrow) and writes it to stdout in
-the format chosen: a header row of column names, then one row per record.`,
+the format chosen: a header row of column names, then one row per record.
+
+A file that does not exist or is not a complete Arrow IPC file (empty, cut
+short, damaged) is bad input: the error names it and the exit code is 2.`,
 		Example: `  sweepstat export out/demo-updip-waterflood/summary.arrow --csv
   sweepstat export out/demo-updip-waterflood/cases.arrow --csv > cases.csv`,
 		Args: usageArgs(cobra.ExactArgs(1)),
@@ -43,7 +48,10 @@ the format chosen: a header row of column names, then one row per record.`,
 }
 
 // ExportRun writes opts.File to stdout in the chosen format. No format
-// flag is bad input; so is a file that does not exist.
+// flag is bad input; so is a file that does not exist and one that is not
+// a complete Arrow IPC file ([batch.ErrCorrupt]: empty, truncated, damaged,
+// a folder), whose error names it. Rows written before damage is found
+// stay on stdout.
 func ExportRun(opts *ExportOptions) error {
 	if !opts.CSV {
 		return badInput("choose a format: --csv")
@@ -52,7 +60,7 @@ func ExportRun(opts *ExportOptions) error {
 		return errors.New("export is not available")
 	}
 	if err := opts.Export(opts.IO.Out, opts.File); err != nil {
-		if errors.Is(err, fs.ErrNotExist) {
+		if errors.Is(err, fs.ErrNotExist) || errors.Is(err, batch.ErrCorrupt) {
 			return &InputError{Err: err}
 		}
 		return fmt.Errorf("exporting %s: %w", opts.File, err)

@@ -45,7 +45,8 @@ type Factory struct {
 	Export  ExportFunc
 	Merge   DirFunc
 	Report  DirFunc
-	Global  *GlobalOptions // set by NewCmdRoot when nil
+	Getenv  func(string) string // environment of `run --shard auto`; nil means os.Getenv
+	Global  *GlobalOptions      // set by NewCmdRoot when nil
 }
 
 func (f *Factory) now() time.Time {

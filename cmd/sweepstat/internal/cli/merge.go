@@ -2,9 +2,14 @@ package cli
 
 import (
 	"context"
+	"errors"
 	"fmt"
+	"strings"
+	"time"
 
 	"github.com/spf13/cobra"
+
+	"github.com/sweepstat/sweepstat/batch"
 )
 
 // DirCmdOptions are the inputs of `sweepstat merge` and `sweepstat
@@ -28,8 +33,17 @@ func NewCmdMerge(f *Factory, runF func(*DirCmdOptions) error) *cobra.Command {
 		Short: "Combine shard outputs and write the summaries",
 		Long: `Merge combines the shard outputs found under DIR (the --out folder the shards
 wrote into, every study in it) into the outputs a single run would have
-written, and writes the summaries.`,
-		Example: `  sweepstat merge out`,
+written, and writes the summaries.
+
+Every study folder with a shards/ folder is checked first: each shard 1 … N
+present once, its manifest complete, all from the same study file, seed and
+version, each cases file with its manifest's size and SHA-256. If anything
+is missing or does not match, merge names it and writes nothing (exit 2).
+Then each study's cases.arrow is laid together from the shards' record
+batches, identical byte for byte to one run's, and the summaries, report
+and run.json are written beside the kept shards/ folder.`,
+		Example: `  sweepstat merge out
+  sbatch --dependency=afterok:$ARRAY --kill-on-invalid-dep=yes --wrap 'sweepstat merge out'`,
 	})
 }
 
@@ -86,4 +100,61 @@ func DirRun(opts *DirCmdOptions) error {
 		return fmt.Errorf("%w: %s of %s is not finished", errInterrupted, opts.Name, opts.Dir)
 	}
 	return err
+}
+
+// MergeStudies returns the [DirFunc] of `sweepstat merge`: it checks the
+// shards of every study under the folder ([batch.CheckShards]; problems
+// are bad input and nothing is written), then merges each study
+// ([batch.MergeStudy]) with a line per study on ios.ErrOut (unless quiet:
+// opt.Progress nil)
+// and a summary on ios.Out. A study that fails to merge does not stop the
+// others; the error is then a *RunErrors.
+func MergeStudies(ios *IOStreams, now func() time.Time) DirFunc {
+	if now == nil {
+		now = time.Now
+	}
+	return func(ctx context.Context, dir string, opt DirOptions) error {
+		plans, err := batch.CheckShards(dir, opt.Workers)
+		if errors.Is(err, batch.ErrShards) {
+			return &InputError{Err: err}
+		}
+		if err != nil {
+			return err
+		}
+		fails := &RunErrors{Failed: map[string]error{}, Total: len(plans)}
+		done := 0
+		for _, p := range plans {
+			name := p.Study.Name
+			if ctx.Err() != nil {
+				return fmt.Errorf("%w: %s was not merged", errInterrupted, name)
+			}
+			start := now()
+			info, err := batch.MergeStudy(ctx, p, batch.Options{Workers: opt.Workers, Progress: opt.Progress, Now: now})
+			if err != nil {
+				if ctx.Err() != nil {
+					return fmt.Errorf("%w: %s is not merged", errInterrupted, name)
+				}
+				fmt.Fprintf(ios.ErrOut, "sweepstat: %s: %v\n", name, err)
+				fails.Failed[name] = err
+				fails.Order = append(fails.Order, name)
+				continue
+			}
+			done++
+			if opt.Progress != nil { // nil with --quiet
+				fmt.Fprintf(ios.ErrOut, "%s: merged %d shards, %d cases, %d rejected, %.1f s, %s\n",
+					name, info.Shards, info.Cases, info.Rejected, now().Sub(start).Seconds(), p.Dir)
+			}
+			w := ios.Out
+			fmt.Fprintf(w, "%s: outputs in %s (merged from %d shards)\n", name, p.Dir, info.Shards)
+			fmt.Fprintf(w, "  files:      %s\n", strings.Join(info.Files, ", "))
+			fmt.Fprintf(w, "  cases:      %d (%d rejected)\n", info.Cases, info.Rejected)
+		}
+		if done > 0 {
+			fmt.Fprintf(ios.Out, "\nCaution: %s\n", batch.Caution)
+		}
+		if len(fails.Order) > 0 {
+			return fails
+		}
+		return nil
+	}
 }

@@ -25,14 +25,17 @@ func Main() int {
 		<-ctx.Done()
 		stop() // restore default handling: a second signal kills
 	}()
+	ios := System()
 	f := &Factory{
-		IO:      System(),
+		IO:      ios,
 		Version: BuildVersion(),
 		Now:     time.Now,
 		Run:     batch.Run,
 		Export:  batch.ExportCSV,
-		Merge:   nil, // not built yet: set to the merge entry point when it exists
-		Report:  nil, // not built yet: set to the report entry point when it exists
+		Merge:   MergeStudies(ios, time.Now),
+		Report: func(ctx context.Context, dir string, o DirOptions) error {
+			return batch.Report(ctx, dir, batch.ReportOptions{Workers: o.Workers, Progress: o.Progress, Version: o.Version})
+		},
 	}
 	return Execute(ctx, f, os.Args[1:])
 }

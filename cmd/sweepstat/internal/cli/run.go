@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"os"
 	"path/filepath"
 	"strings"
 	"time"
@@ -26,6 +27,11 @@ type RunOptions struct {
 	Force   bool     // replace existing output folders
 	Workers int      // 0 means all cores
 	Quiet   bool
+
+	Shard      string              // --shard: "K/N", "auto" or "" for whole studies
+	ShardCount int                 // --shard-count: N for --shard auto when the scheduler does not give it
+	Resume     bool                // --resume: keep complete outputs, redo the others
+	Getenv     func(string) string // environment of --shard auto; nil means os.Getenv
 }
 
 // NewCmdRun builds `sweepstat run`. With a nil runF it runs [RunRun].
@@ -42,14 +48,31 @@ With no argument it runs the embedded demo study. A folder stands for every
 *.yaml and *.yml file directly in it, in sorted order. All studies are loaded
 and checked first; if any has an error, nothing runs (exit 2). A study that
 fails while running does not stop the others; the exit code is then 1.
-An existing output folder is an error unless --force is given.
+An existing output folder is an error unless --force is given. An --out that
+is a file, or a folder that cannot be created or written, is bad input (exit
+2), found before anything runs.
+
+--resume keeps a study whose outputs are complete and match (same study
+file, seed and version; every file there with the SHA-256 run.json gives)
+and redoes any other.
+
+--shard K/N solves only shard K of N of each study: a contiguous range of
+cases, aligned to the record batches of cases.arrow, written with a
+manifest into OUT/<study name>/shards/. Shards of one study share its
+folder; running a shard whose files exist needs --force or --resume.
+'sweepstat merge OUT' then writes the outputs one run would have written.
+--shard auto takes K and N from a Slurm job array (SLURM_ARRAY_TASK_ID with
+SLURM_ARRAY_TASK_COUNT, or _MIN and _MAX) or a Kubernetes Indexed Job
+(JOB_COMPLETION_INDEX, with N from --shard-count or SWEEPSTAT_SHARD_COUNT).
 
 Progress goes to stderr: a bar on a terminal, a line every few seconds
 otherwise, nothing with --quiet.`,
 		Example: `  sweepstat run                                # the embedded demo study into out/
   sweepstat run study.yaml --out results       # into results/<study name>/
   sweepstat run studies/ --force --workers 8   # every study in a folder
-  sweepstat run study.yaml --quiet 2>/dev/null # for scripts`,
+  sweepstat run study.yaml --quiet 2>/dev/null # for scripts
+  sweepstat run study.yaml --shard 2/8         # shard 2 of 8, then: sweepstat merge out
+  sweepstat run study.yaml --shard auto --resume  # in a Slurm array task`,
 		Args: cobra.ArbitraryArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			g := f.global()
@@ -60,6 +83,7 @@ otherwise, nothing with --quiet.`,
 			opts.Now = f.Now
 			opts.Version = f.Version
 			opts.Ctx = cmd.Context()
+			opts.Getenv = f.Getenv
 			if runF != nil {
 				return runF(opts)
 			}
@@ -68,6 +92,9 @@ otherwise, nothing with --quiet.`,
 	}
 	cmd.Flags().StringVarP(&opts.Out, "out", "o", "out", "parent `DIR` of the study output folders")
 	cmd.Flags().BoolVar(&opts.Force, "force", false, "replace existing output folders")
+	cmd.Flags().StringVar(&opts.Shard, "shard", "", "solve only shard `K/N` of each study's cases into OUT/<study>/shards/ (auto: from the cluster array task)")
+	cmd.Flags().IntVar(&opts.ShardCount, "shard-count", 0, "number of shards for --shard auto when the scheduler does not give it (Kubernetes Indexed Jobs)")
+	cmd.Flags().BoolVar(&opts.Resume, "resume", false, "keep outputs (or shards) that are complete and match; redo the others")
 	return cmd
 }
 
@@ -93,8 +120,15 @@ func RunRun(opts *RunOptions) error {
 	if now == nil {
 		now = time.Now
 	}
+	shard, err := runShard(opts)
+	if err != nil {
+		return err
+	}
 	sts, err := loadStudies(opts.Args)
 	if err != nil {
+		return err
+	}
+	if err := checkOutDir(opts.Out); err != nil {
 		return err
 	}
 
@@ -114,6 +148,8 @@ func RunRun(opts *RunOptions) error {
 			Progress: NewProgress(ios, opts.Quiet, now),
 			Version:  opts.Version,
 			Now:      now,
+			Shard:    shard,
+			Resume:   opts.Resume,
 		})
 		secs := now().Sub(start).Seconds()
 		if ctx.Err() != nil && (err != nil || info == nil) {
@@ -130,8 +166,16 @@ func RunRun(opts *RunOptions) error {
 		}
 		done++
 		if !opts.Quiet {
-			fmt.Fprintf(ios.ErrOut, "%s: %d cases, %d rejected, %.1f s, %s\n",
-				st.Name, info.Cases, info.Rejected, secs, dir)
+			what := ""
+			if info.Shard != "" {
+				what, dir = "shard "+info.Shard+", ", filepath.Join(dir, batch.ShardsDir)
+			}
+			if info.Skipped {
+				fmt.Fprintf(ios.ErrOut, "%s: %scomplete, kept (--resume), %s\n", st.Name, what, dir)
+			} else {
+				fmt.Fprintf(ios.ErrOut, "%s: %s%d cases, %d rejected, %.1f s, %s\n",
+					st.Name, what, info.Cases, info.Rejected, secs, dir)
+			}
 		}
 		printRunSummary(opts, st.Name, dir, info)
 	}
@@ -155,4 +199,41 @@ func printRunSummary(opts *RunOptions, name, dir string, info *batch.Info) {
 	if info.CasesPerSec > 0 {
 		fmt.Fprintf(w, "  throughput: %.0f cases/s\n", info.CasesPerSec)
 	}
+}
+
+// runShard checks the --shard, --shard-count and --resume flags and
+// returns the shard to run (zero for whole studies). Every problem is bad
+// input.
+func runShard(opts *RunOptions) (batch.Shard, error) {
+	if opts.Force && opts.Resume {
+		return batch.Shard{}, badInput("--force and --resume exclude each other: --force redoes every output, --resume keeps the complete ones")
+	}
+	if opts.ShardCount < 0 {
+		return batch.Shard{}, badInput("--shard-count must be 1 or more, not %d", opts.ShardCount)
+	}
+	switch opts.Shard {
+	case "":
+		if opts.ShardCount != 0 {
+			return batch.Shard{}, badInput("--shard-count goes with --shard auto")
+		}
+		return batch.Shard{}, nil
+	case "auto":
+		getenv := opts.Getenv
+		if getenv == nil {
+			getenv = os.Getenv
+		}
+		s, err := batch.ShardFromEnv(getenv, opts.ShardCount)
+		if err != nil {
+			return batch.Shard{}, badInput("--shard: %w", err)
+		}
+		return s, nil
+	}
+	if opts.ShardCount != 0 {
+		return batch.Shard{}, badInput("--shard-count goes with --shard auto, not --shard %s", opts.Shard)
+	}
+	s, err := batch.ParseShard(opts.Shard)
+	if err != nil {
+		return batch.Shard{}, badInput("--shard: %w", err)
+	}
+	return s, nil
 }

@@ -7,6 +7,7 @@ import (
 	"slices"
 	"strings"
 
+	"github.com/sweepstat/sweepstat/batch"
 	"github.com/sweepstat/sweepstat/studies"
 )
 
@@ -51,6 +52,9 @@ func studyFiles(args []string) ([]string, error) {
 func loadStudies(args []string) ([]*studies.Study, error) {
 	if len(args) == 0 {
 		st, err := studies.Demo()
+		if err == nil {
+			_, err = batch.NewDesign(st)
+		}
 		if err != nil {
 			return nil, &StudyErrors{Lists: []error{err}, Files: 1}
 		}
@@ -66,7 +70,7 @@ func loadStudies(args []string) ([]*studies.Study, error) {
 		seen = map[string]string{} // study name → file
 	)
 	for _, file := range files {
-		st, err := studies.Load(file)
+		st, err := loadStudy(file)
 		if err != nil {
 			bad = append(bad, err)
 			continue
@@ -82,4 +86,20 @@ func loadStudies(args []string) ([]*studies.Study, error) {
 		return nil, &StudyErrors{Lists: bad, Files: len(files)}
 	}
 	return sts, nil
+}
+
+// loadStudy loads and validates the study file at path, then builds its
+// sampling design, so that what only the sampler finds (a correlation
+// matrix that is not positive definite) is a study error before anything
+// runs, for check as for run. The design is cheap to build (no per-case
+// storage) and is built again by the run.
+func loadStudy(path string) (*studies.Study, error) {
+	st, err := studies.Load(path)
+	if err != nil {
+		return nil, err
+	}
+	if _, err := batch.NewDesign(st); err != nil {
+		return nil, err
+	}
+	return st, nil
 }
