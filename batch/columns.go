@@ -12,7 +12,7 @@ import (
 // ahead of use. Reading several columns per pass over cases.arrow keeps
 // the number of passes small at 10 million cases (each pass decodes every
 // record batch) while memory stays bounded.
-const columnBudget = 192 << 20
+const columnBudget = 96 << 20
 
 // columnSource hands out float64 columns of an Arrow file one at a time,
 // in an order planned ahead: on a miss it reads the asked column and the

@@ -359,11 +359,7 @@ func MergeStudy(ctx context.Context, p *MergePlan, opt Options) (*Info, error) {
 		return nil, err
 	}
 	ok := false
-	defer func() {
-		if !ok {
-			r.discard()
-		}
-	}()
+	defer func() { r.end(ok) }()
 
 	start := r.now()
 	info := r.info

@@ -170,11 +170,7 @@ func Run(ctx context.Context, st *studies.Study, opt Options) (*Info, error) {
 		return nil, err
 	}
 	ok := false
-	defer func() {
-		if !ok {
-			r.discard()
-		}
-	}()
+	defer func() { r.end(ok) }()
 
 	start := r.now()
 	info := r.info
@@ -210,6 +206,7 @@ type studyRun struct {
 	final   string // opt.Out/<study name>
 	stage   string // hidden staging folder beside final
 	info    *Info
+	lock    *folderLock
 }
 
 // newStudyRun applies the defaults of opt and builds st's design.
@@ -239,8 +236,13 @@ func newStudyRun(st *studies.Study, opt Options) (*studyRun, error) {
 	return r, nil
 }
 
-// begin creates an empty staging folder.
+// begin claims the study folder and creates an empty staging folder.
 func (r *studyRun) begin() error {
+	lock, err := acquireLock(r.final)
+	if err != nil {
+		return err
+	}
+	r.lock = lock
 	if err := os.RemoveAll(r.stage); err != nil {
 		return fmt.Errorf("clearing staging folder %s: %w", r.stage, err)
 	}
@@ -252,6 +254,15 @@ func (r *studyRun) begin() error {
 
 // discard removes the staging folder.
 func (r *studyRun) discard() { os.RemoveAll(r.stage) }
+
+// end releases the claim on the study folder; after a failure it first
+// removes the staging folder.
+func (r *studyRun) end(ok bool) {
+	if !ok {
+		r.discard()
+	}
+	r.lock.release()
+}
 
 // finish writes the summaries and the report from the staged cases.arrow,
 // then run.json with the SHA-256 of every file. start is when the run

@@ -10,6 +10,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"slices"
+	"strconv"
 	"testing"
 
 	"github.com/apache/arrow/go/v17/arrow"
@@ -287,5 +288,35 @@ func TestCasesReadByArrowJS(t *testing.T) {
 				}
 			}
 		}
+	}
+}
+
+// TestRunRefusesConcurrentWriter: while another live process holds the
+// study folder's lock, a run fails with ErrBusy and leaves the other's
+// work alone; a lock left by a dead process is taken over.
+func TestRunRefusesConcurrentWriter(t *testing.T) {
+	t.Parallel()
+	st := smallStudy(t, 100)
+	out := t.TempDir()
+	lock := lockPathFor(filepath.Join(out, st.Name))
+	// Our parent process stands in for a live writer.
+	if err := os.WriteFile(lock, []byte(strconv.Itoa(os.Getppid())+"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Run(context.Background(), st, Options{Out: out, Workers: 1}); !errors.Is(err, ErrBusy) {
+		t.Fatalf("err = %v, want ErrBusy", err)
+	}
+	if _, err := os.Stat(lock); err != nil {
+		t.Fatalf("the other writer's lock was removed: %v", err)
+	}
+	// A pid that cannot be running: the lock is stale.
+	if err := os.WriteFile(lock, []byte("2147483646\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Run(context.Background(), st, Options{Out: out, Workers: 1}); err != nil {
+		t.Fatalf("stale lock not taken over: %v", err)
+	}
+	if _, err := os.Stat(lock); !os.IsNotExist(err) {
+		t.Errorf("lock left behind after the run: %v", err)
 	}
 }
