@@ -196,7 +196,11 @@ func tornadoSVG(c tornadoChart, w words) *svgDoc {
 		left = math.Max(left, math.Max(textWidth(lines[i][0], 12.5), textWidth(lines[i][1], 11)))
 	}
 	left += 24
-	const width, right = 680.0, 96.0
+	right := 40.0
+	for _, b := range c.Bars {
+		right = math.Max(right, textWidth("swing "+label(b.Swing), 11.5)+16)
+	}
+	const width = 680.0
 	height := top + rowH*float64(len(c.Bars)) + bottom
 	s := newSVG(width, height, w.output(c.Output)+": tornado")
 	s.heading(w.output(c.Output) + ": one input at a time")

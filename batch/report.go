@@ -42,8 +42,13 @@ type ReportOptions struct {
 // file, checked against run.json's study hash), cases.arrow and the
 // summary tables. dir is either one study's output folder or the parent
 // folder of several (the --out folder of `sweepstat run`, whose
-// non-hidden subfolders holding a run.json are the studies). Nothing else
-// in the folders changes; each file is replaced whole when complete.
+// non-hidden subfolders holding a run.json are the studies). Charts the
+// new report does not use are removed from charts/, and run.json's file
+// list and SHA-256 sums are brought up to date; nothing else changes. Each
+// file is replaced whole when complete.
+//
+// Memory: the report holds at most two columns of cases.arrow at a time,
+// plus the first CorrelationMaxRows cases of every uncertain input.
 //
 // A folder that cannot be rebuilt does not stop the others; the error
 // returned joins every folder's error. It is an error when dir holds no

@@ -71,6 +71,9 @@ func startChromium(t *testing.T, bin string) *cdp {
 	c := &cdp{cmd: cmd, w: ourEnd, waiting: map[int]chan cdpMsg{}, events: make(chan cdpMsg, 4096), done: make(chan struct{})}
 	go c.read(fromBrowser)
 	t.Cleanup(func() {
+		ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+		defer cancel()
+		c.call(ctx, "Browser.close", nil, nil) // the browser may close before it answers
 		c.w.Close()
 		exited := make(chan struct{})
 		go func() { cmd.Wait(); close(exited) }()
@@ -136,7 +139,7 @@ func (c *cdp) call(ctx context.Context, method string, params any, result any) e
 	if params != nil {
 		msg["params"] = params
 	}
-	if c.session != "" && !strings.HasPrefix(method, "Target.") {
+	if c.session != "" && !strings.HasPrefix(method, "Target.") && !strings.HasPrefix(method, "Browser.") {
 		msg["sessionId"] = c.session
 	}
 	b, err := json.Marshal(msg)
@@ -308,6 +311,7 @@ func chromiumPath() string {
 // width). .ci/run installs Chromium and sets SWEEPSTAT_REQUIRE_CHROMIUM,
 // which turns a missing browser into a failure.
 func TestReportInChromium(t *testing.T) {
+	t.Parallel()
 	bin := chromiumPath()
 	if bin == "" {
 		if os.Getenv("SWEEPSTAT_REQUIRE_CHROMIUM") != "" {
