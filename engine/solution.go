@@ -17,6 +17,10 @@ const (
 	StatusCounterCurrent
 	// StatusInvalid: the parameters break a validity rule.
 	StatusInvalid
+	// StatusNoFront: gravity lifts f to 1 at the initial saturation itself
+	// (S_b = s1_init to rounding), so no displacement front exists; the
+	// case is outside what the 1-D model resolves.
+	StatusNoFront
 )
 
 // String returns the status word written to the status column's prefix.
@@ -28,6 +32,8 @@ func (s Status) String() string {
 		return "counter-current initial state"
 	case StatusInvalid:
 		return "invalid"
+	case StatusNoFront:
+		return "no front"
 	}
 	return fmt.Sprintf("Status(%d)", uint8(s))
 }

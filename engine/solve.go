@@ -45,6 +45,12 @@ func (s *Solver) Solve(p *Params, sol *Solution) error {
 		return nil
 	}
 	sol.Inlet = InletSaturation(p, &sol.Flow)
+	if !(sol.Inlet > sol.Init+4*eps*max(sol.Init, 1)) {
+		// Gravity lifts f to 1 at (or, to rounding, at) s1_init itself:
+		// there is nothing between the two states for a front to cross.
+		sol.Status = StatusNoFront
+		return nil
+	}
 	sol.Status = StatusOK
 	s.sc.envelope(sol)
 	return nil
@@ -77,6 +83,8 @@ func (r *Result) StatusText() string {
 		return "invalid: " + r.Rule
 	case StatusCounterCurrent:
 		return "counter-current initial state: f(s1_init) outside [0, 1)"
+	case StatusNoFront:
+		return "no front: gravity lifts f to 1 at s1_init (S_b = s1_init to rounding)"
 	}
 	return r.Status.String()
 }
@@ -127,6 +135,9 @@ func (s *Solver) SolveCase(p *Params, pvi []float64, cutLimit float64, r *Result
 		r.RecoveryAtCutLimit = (avg - sol.Init) * scale
 	}
 }
+
+// eps is the spacing of doubles just above 1.
+const eps = 0x1p-52
 
 func resize(x []float64, n int) []float64 {
 	if cap(x) < n {
