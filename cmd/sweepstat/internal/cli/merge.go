@@ -146,7 +146,7 @@ func MergeStudies(ios *IOStreams, now func() time.Time) DirFunc {
 			}
 			w := ios.Out
 			fmt.Fprintf(w, "%s: outputs in %s (merged from %d shards)\n", name, p.Dir, info.Shards)
-			fmt.Fprintf(w, "  files:      %s\n", strings.Join(info.Files, ", "))
+			fmt.Fprintf(w, "  files:      %s\n", strings.Join(fileList(info.Files), ", "))
 			fmt.Fprintf(w, "  cases:      %d (%d rejected)\n", info.Cases, info.Rejected)
 		}
 		if done > 0 {

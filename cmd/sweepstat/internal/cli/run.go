@@ -193,7 +193,7 @@ func printRunSummary(opts *RunOptions, name, dir string, info *batch.Info) {
 	w := opts.IO.Out
 	fmt.Fprintf(w, "%s: outputs in %s\n", name, dir)
 	if len(info.Files) > 0 {
-		fmt.Fprintf(w, "  files:      %s\n", strings.Join(info.Files, ", "))
+		fmt.Fprintf(w, "  files:      %s\n", strings.Join(fileList(info.Files), ", "))
 	}
 	fmt.Fprintf(w, "  cases:      %d (%d rejected)\n", info.Cases, info.Rejected)
 	if info.CasesPerSec > 0 {
@@ -236,4 +236,27 @@ func runShard(opts *RunOptions) (batch.Shard, error) {
 		return batch.Shard{}, badInput("--shard: %w", err)
 	}
 	return s, nil
+}
+
+// fileList shortens a run's file list for the summary line: the files in
+// a folder (the charts) are counted, not listed.
+func fileList(files []string) []string {
+	var out []string
+	folders := map[string]int{}
+	var order []string
+	for _, f := range files {
+		dir, _, ok := strings.Cut(f, "/")
+		if !ok {
+			out = append(out, f)
+			continue
+		}
+		if folders[dir] == 0 {
+			order = append(order, dir)
+		}
+		folders[dir]++
+	}
+	for _, d := range order {
+		out = append(out, fmt.Sprintf("%s/ (%d files)", d, folders[d]))
+	}
+	return out
 }
