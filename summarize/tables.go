@@ -130,13 +130,38 @@ func SpearmanTable(outputs []string, params []string, column func(name string) (
 		}
 		xs[k] = col
 	}
+	// Rank each complete parameter column once. For an output without NaN
+	// the correlation of those ranks with the output's is Spearman's ρ
+	// exactly (the same mid-ranks Spearman computes), which saves ranking
+	// every parameter again for every output.
+	rxs := make([][]float64, len(params))
+	for k, x := range xs {
+		if !hasNaN(x) {
+			rxs[k] = make([]float64, len(x))
+			ranksInto(rxs[k], x)
+		}
+	}
 	rows := make([]SpearmanRow, 0, len(outputs)*len(params))
+	ry := make([]float64, max(n, 0))
 	for _, name := range outputs {
 		y, err := read(name)
 		if err != nil {
 			return nil, err
 		}
-		rho := SpearmanEach(xs, y)
+		var rho []float64
+		if len(y) >= 2 && !hasNaN(y) {
+			ranksInto(ry, y)
+			rho = make([]float64, len(xs))
+			for k, x := range xs {
+				if rxs[k] != nil {
+					rho[k] = rankCorrelation(rxs[k], ry)
+				} else {
+					rho[k] = Spearman(x, y)
+				}
+			}
+		} else {
+			rho = SpearmanEach(xs, y)
+		}
 		for k, x := range xs {
 			m := 0
 			for i, v := range y {
@@ -171,4 +196,13 @@ func checkConvention(c Convention) error {
 		return fmt.Errorf("%w %d", ErrConvention, int(c))
 	}
 	return nil
+}
+
+func hasNaN(x []float64) bool {
+	for _, v := range x {
+		if math.IsNaN(v) {
+			return true
+		}
+	}
+	return false
 }
