@@ -448,11 +448,14 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 		<-c.done
 		free <- c
 	}
-	if err := g.Wait(); err != nil {
-		return nil, err
-	}
+	// A write error cancels the solvers, which then report the
+	// cancellation: the write error is the cause and is returned first.
+	gerr := g.Wait()
 	if werr != nil {
 		return nil, werr
+	}
+	if gerr != nil {
+		return nil, gerr
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
