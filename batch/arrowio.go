@@ -250,31 +250,7 @@ func forEachRecord(path string, mem memory.Allocator, fn func(rec arrow.Record) 
 // ReadFloat64Columns reads the named float64 columns of the Arrow file at
 // path into memory, in file order.
 func ReadFloat64Columns(path string, names []string, mem memory.Allocator) ([][]float64, error) {
-	if mem == nil {
-		mem = memory.DefaultAllocator
-	}
-	out := make([][]float64, len(names))
-	var idx []int
-	err := forEachRecord(path, mem, func(rec arrow.Record) error {
-		if idx == nil {
-			for _, n := range names {
-				is := rec.Schema().FieldIndices(n)
-				if len(is) != 1 {
-					return fmt.Errorf("reading %s: no column %q", path, n)
-				}
-				idx = append(idx, is[0])
-			}
-		}
-		for k, i := range idx {
-			col, ok := rec.Column(i).(*array.Float64)
-			if !ok {
-				return fmt.Errorf("reading %s: column %q is %s, not float64", path, names[k], rec.Column(i).DataType())
-			}
-			out[k] = append(out[k], col.Float64Values()...)
-		}
-		return nil
-	})
-	return out, err
+	return readColumns(path, names, 0, mem)
 }
 
 // ExportCSV writes the Arrow IPC file at path to w as CSV: a header row of

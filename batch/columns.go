@@ -1,10 +1,6 @@
 package batch
 
 import (
-	"fmt"
-
-	"github.com/apache/arrow/go/v17/arrow"
-	"github.com/apache/arrow/go/v17/arrow/array"
 	"github.com/apache/arrow/go/v17/arrow/memory"
 )
 
@@ -77,36 +73,17 @@ func readColumns(path string, names []string, limit int, mem memory.Allocator) (
 		mem = memory.DefaultAllocator
 	}
 	out := make([][]float64, len(names))
-	var idx []int
-	stop := fmt.Errorf("enough rows")
-	err := forEachRecord(path, mem, func(rec arrow.Record) error {
-		if idx == nil {
-			for _, n := range names {
-				is := rec.Schema().FieldIndices(n)
-				if len(is) != 1 {
-					return fmt.Errorf("reading %s: no column %q", path, n)
-				}
-				idx = append(idx, is[0])
-			}
-		}
-		for k, i := range idx {
-			col, ok := rec.Column(i).(*array.Float64)
-			if !ok {
-				return fmt.Errorf("reading %s: column %q is %s, not float64", path, names[k], rec.Column(i).DataType())
-			}
-			v := col.Float64Values()
+	err := scanFloat64(path, mem, names, func(_ int, cols [][]float64) error {
+		for k, v := range cols {
 			if limit > 0 {
 				v = v[:min(len(v), limit-len(out[k]))]
 			}
 			out[k] = append(out[k], v...)
 		}
-		if limit > 0 && len(out[0]) >= limit {
-			return stop
+		if limit > 0 && len(names) > 0 && len(out[0]) >= limit {
+			return errStopScan
 		}
 		return nil
 	})
-	if err == stop {
-		err = nil
-	}
 	return out, err
 }
