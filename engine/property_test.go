@@ -117,10 +117,11 @@ func TestEnvelopeProperties(t *testing.T) {
 
 // finiteOutputs names the first non-finite output of a solved case. The
 // front speed is allowed to be +Inf only where f'(s1_init) is infinite
-// (n1 < 1 and s1_init = s1r); breakthrough is then at 0 PVI. The cut-limit
+// (n1 < 1 and s1_init = s1r, or below it by at most initSnap); breakthrough
+// is then at 0 PVI. The cut-limit
 // outputs are NaN when the limit is never reached.
 func finiteOutputs(r *Result, p *Params) string {
-	inf := math.IsInf(r.FrontSpeed, 1) && p[N1] < 1 && p[S1Init] == p[S1r]
+	inf := math.IsInf(r.FrontSpeed, 1) && p[N1] < 1 && p[S1Init] <= p[S1r] && p[S1r]-p[S1Init] <= initSnap
 	vals := map[string]float64{
 		"gravity_number": r.GravityNumber, "front_saturation": r.FrontSaturation,
 		"breakthrough_pvi": r.BreakthroughPVI, "recovery_at_breakthrough": r.RecoveryAtBreakthrough,

@@ -38,6 +38,11 @@ func (s *Solver) Solve(p *Params, sol *Solution) error {
 	sol.corey = coreyOf(p)
 	sol.Flow = FracFlow{Rel: &sol.corey, R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
 	sol.Init = p[S1Init]
+	if s1r := p[S1r]; sol.Init < s1r && s1r-sol.Init <= initSnap {
+		// Below s1r by less than double precision can resolve against the
+		// curves' end-point slope: the same case as s1_init = s1r.
+		sol.Init = s1r
+	}
 	sol.FInit = sol.Flow.F(sol.Init)
 	if !(sol.FInit >= 0 && sol.FInit < 1) {
 		sol.Status = StatusCounterCurrent
@@ -135,6 +140,10 @@ func (s *Solver) SolveCase(p *Params, pvi []float64, cutLimit float64, r *Result
 		r.RecoveryAtCutLimit = (avg - sol.Init) * scale
 	}
 }
+
+// initSnap is how far below s1r an initial saturation is still taken as
+// s1r itself.
+const initSnap = 1e-12
 
 // eps is the spacing of doubles just above 1.
 const eps = 0x1p-52
