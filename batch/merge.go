@@ -19,6 +19,7 @@ import (
 	"golang.org/x/sync/errgroup"
 
 	"github.com/sweepstat/sweepstat/engine"
+	"github.com/sweepstat/sweepstat/sampler"
 	"github.com/sweepstat/sweepstat/studies"
 )
 
@@ -283,6 +284,15 @@ func checkStudy(sd string, workers int) (*MergePlan, []string) {
 	}
 
 	// Files last: they take the time.
+	leaders := 0 // the Sobol design's inputs: uncertain parameters that lead
+	if st != nil {
+		specs := st.Specs()
+		for _, q := range st.Uncertain() {
+			if specs[q].Kind != sampler.SameAs {
+				leaders++
+			}
+		}
+	}
 	fileProbs := make([]string, len(good))
 	g := new(errgroup.Group)
 	g.SetLimit(max(workers, 1))
@@ -293,6 +303,8 @@ func checkStudy(sd string, workers int) (*MergePlan, []string) {
 		g.Go(func() error {
 			if p := fileProblem(filepath.Join(shardsDir, m.File), m); p != "" {
 				fileProbs[i] = fmt.Sprintf("shard %s: %s %s", m.Of(), rel(m.File), p)
+			} else if p := sobolShardProblem(shardsDir, st, m, leaders); st != nil && p != "" {
+				fileProbs[i] = fmt.Sprintf("shard %s: %s", m.Of(), p)
 			}
 			return nil
 		})
@@ -378,6 +390,14 @@ func MergeStudy(ctx context.Context, p *MergePlan, opt Options) (*Info, error) {
 	}
 	if err := mergeCases(ctx, p, filepath.Join(r.stage, CasesFile), r.opt, r.mem); err != nil {
 		return nil, err
+	}
+	if in, err := sobolInputs(r); err != nil {
+		return nil, err
+	} else if in != nil {
+		// The shards solved the Sobol design's rows too: gather them.
+		if r.opt.sobolRuns, err = readShardSobol(p, in, r.mem); err != nil {
+			return nil, err
+		}
 	}
 	merged := r.now()
 	info.setRejected(rejected)

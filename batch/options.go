@@ -23,6 +23,11 @@ type Options struct {
 	Alloc     memory.Allocator // nil means memory.DefaultAllocator
 	Now       func() time.Time // clock for run.json timings; nil means time.Now
 
+	// sobolRuns, when set, holds the outputs of every run of the Sobol
+	// design, gathered from shards: the summaries reduce them instead of
+	// solving the design again.
+	sobolRuns [][]float64
+
 	// Shard, when not zero, makes Run solve only that shard of the cases
 	// and write it into Out/<study name>/shards/ (see [RunShard]).
 	Shard Shard

@@ -277,6 +277,14 @@ type ShardManifest struct {
 	Seconds    float64        `json:"solve_seconds"`
 	StudyText  string         `json:"study_text"` // the study file's bytes
 
+	// The shard's rows [SobolFirst, SobolEnd) of the Sobol design, when
+	// the study asks for Sobol indices, and their file.
+	SobolFirst  int    `json:"sobol_first_row,omitempty"`
+	SobolEnd    int    `json:"sobol_end_row,omitempty"`
+	SobolFile   string `json:"sobol_file,omitempty"`
+	SobolBytes  int64  `json:"sobol_bytes,omitempty"`
+	SobolSHA256 string `json:"sobol_sha256,omitempty"`
+
 	// Skipped is set on what RunShard returns when Options.Resume found
 	// the shard complete.
 	Skipped bool `json:"-"`
@@ -339,11 +347,19 @@ func RunShard(ctx context.Context, st *studies.Study, opt Options) (*ShardManife
 	casesPath := filepath.Join(dir, sh.CasesFile())
 	manPath := filepath.Join(dir, sh.ManifestFile())
 
+	sobolIn, err := sobolInputs(r)
+	if err != nil {
+		return nil, err
+	}
+	leaders := 0
+	if sobolIn != nil {
+		leaders = len(sobolIn.Leaders)
+	}
 	if pathExists(casesPath) || pathExists(manPath) {
 		switch {
 		case opt.Resume:
 			if m, err := readManifest(manPath); err == nil && m.matches(st, sh, lo, hi, rows, r.opt.Version) == "" &&
-				fileProblem(casesPath, m) == "" {
+				fileProblem(casesPath, m) == "" && sobolShardProblem(dir, st, m, leaders) == "" {
 				m.Skipped = true
 				return m, nil
 			}
@@ -377,6 +393,17 @@ func RunShard(ctx context.Context, st *studies.Study, opt Options) (*ShardManife
 	}
 	for _, n := range rejected {
 		m.Rejected += n
+	}
+	if sobolIn != nil {
+		m.SobolFile = sh.SobolFile()
+		sobolPath := filepath.Join(dir, m.SobolFile)
+		if m.SobolFirst, m.SobolEnd, err = writeShardSobol(ctx, r, sobolIn, sh, sobolPath); err != nil {
+			return nil, err
+		}
+		if m.SobolSHA256, m.SobolBytes, err = fileSHA256(sobolPath); err != nil {
+			return nil, err
+		}
+		m.Seconds = r.now().Sub(start).Seconds()
 	}
 	js, err := json.MarshalIndent(m, "", "  ")
 	if err != nil {

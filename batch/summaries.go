@@ -109,7 +109,11 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 			last := 0
 			progress = func(k int) { opt.Progress.Add(k - last); last = k }
 		}
-		data.Sobol, err = summarize.Sobol(ctx, in, pvi, cut, n, sobolSeed(st.Seed), workers, SobolBootstrap, progress)
+		if opt.sobolRuns != nil {
+			data.Sobol, err = summarize.SobolReduce(ctx, in, pvi, n, sobolSeed(st.Seed), workers, SobolBootstrap, opt.sobolRuns)
+		} else {
+			data.Sobol, err = summarize.Sobol(ctx, in, pvi, cut, n, sobolSeed(st.Seed), workers, SobolBootstrap, progress)
+		}
 		if opt.Progress != nil {
 			opt.Progress.Finish()
 		}

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"runtime"
 	"sync"
@@ -89,13 +90,45 @@ func Sobol(ctx context.Context, in *Inputs, pvi []float64, cutLimit float64, n i
 	if bootstrap < 0 {
 		return nil, fmt.Errorf("sobol study: negative bootstrap count %d", bootstrap)
 	}
-	d := len(in.Leaders)
-	if d == 0 {
+	if len(in.Leaders) == 0 {
 		return nil, nil
+	}
+	f := NewSobolRuns(in, pvi, n)
+	if err := SobolSolve(ctx, in, pvi, cutLimit, n, seed, workers, 0, n, f, progress); err != nil {
+		return nil, err
+	}
+	return SobolReduce(ctx, in, pvi, n, seed, workers, bootstrap, f)
+}
+
+// NewSobolRuns returns the storage of every run's outputs for [SobolSolve]
+// and [SobolReduce]: f[j][run] is output j (engine.Outputs order) of run
+// number block·n + row of the Saltelli design ([SobolPlan]), NaN until
+// solved.
+func NewSobolRuns(in *Inputs, pvi []float64, n int) [][]float64 {
+	runs := n * (len(in.Leaders) + 2)
+	f := make([][]float64, len(engine.Outputs(pvi)))
+	for j := range f {
+		f[j] = make([]float64, runs)
+		for k := range f[j] {
+			f[j][k] = math.NaN()
+		}
+	}
+	return f
+}
+
+// SobolSolve solves the runs of rows [lo, hi) of the design of [Sobol]
+// (each row's d+2 runs) into f, which [NewSobolRuns] made, and leaves the
+// other rows alone: shards of a study solve disjoint row ranges and a
+// merge puts them together before [SobolReduce]. Row r depends only on
+// (seed, matrix, r), so any split gives the same values.
+func SobolSolve(ctx context.Context, in *Inputs, pvi []float64, cutLimit float64, n int, seed uint64, workers int, lo, hi int, f [][]float64, progress func(done int)) error {
+	d := len(in.Leaders)
+	if lo < 0 || hi > n || lo > hi {
+		return fmt.Errorf("sobol study: rows [%d, %d) outside [0, %d)", lo, hi, n)
 	}
 	for k := range in.Leaders {
 		if in.Leaders[k].Quantile == nil {
-			return nil, errors.New("sobol study: leader " + in.Leaders[k].Name() + " has no Quantile")
+			return errors.New("sobol study: leader " + in.Leaders[k].Name() + " has no Quantile")
 		}
 	}
 	if workers < 1 {
@@ -103,12 +136,8 @@ func Sobol(ctx context.Context, in *Inputs, pvi []float64, cutLimit float64, n i
 	}
 	plan := SobolPlan{N: n, D: d}
 	outs := engine.Outputs(pvi)
-	f := make([][]float64, len(outs)) // f[j][run]: output j of each run, in run order
-	for j := range f {
-		f[j] = make([]float64, plan.Runs())
-	}
 
-	// The solve phase: tasks of whole rows, each solving a row's d+2 runs.
+	// Tasks of whole rows, each solving a row's d+2 runs.
 	pool := make(chan *sobolWorker, workers) // one Solver per running task
 	for range workers {
 		pool <- newSobolWorker(d)
@@ -118,8 +147,8 @@ func Sobol(ctx context.Context, in *Inputs, pvi []float64, cutLimit float64, n i
 	rowsPer := max(1, sobolChunk/(d+2))
 	g, gctx := errgroup.WithContext(ctx)
 	g.SetLimit(workers)
-	for start := 0; start < n && gctx.Err() == nil; start += rowsPer {
-		end := min(n, start+rowsPer)
+	for start := lo; start < hi && gctx.Err() == nil; start += rowsPer {
+		end := min(hi, start+rowsPer)
 		g.Go(func() error {
 			w := <-pool
 			defer func() { pool <- w }()
@@ -139,15 +168,39 @@ func Sobol(ctx context.Context, in *Inputs, pvi []float64, cutLimit float64, n i
 		})
 	}
 	if err := g.Wait(); err != nil {
-		return nil, fmt.Errorf("sobol study: %w", err)
+		return fmt.Errorf("sobol study: %w", err)
 	}
 	if err := ctx.Err(); err != nil { // cancelled between tasks
-		return nil, fmt.Errorf("sobol study: %w", err)
+		return fmt.Errorf("sobol study: %w", err)
 	}
+	return nil
+}
 
-	// The reduce phase: each output's indices into its own slot.
+// SobolReduce computes the indices of [Sobol] from the outputs f of every
+// run (all rows solved by [SobolSolve]).
+func SobolReduce(ctx context.Context, in *Inputs, pvi []float64, n int, seed uint64, workers int, bootstrap int, f [][]float64) ([]SobolRow, error) {
+	d := len(in.Leaders)
+	if d == 0 {
+		return nil, nil
+	}
+	if bootstrap < 0 {
+		return nil, fmt.Errorf("sobol study: negative bootstrap count %d", bootstrap)
+	}
+	if workers < 1 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	plan := SobolPlan{N: n, D: d}
+	outs := engine.Outputs(pvi)
+	if len(f) != len(outs) {
+		return nil, fmt.Errorf("sobol study: %d output columns of runs, want %d", len(f), len(outs))
+	}
+	for j := range f {
+		if len(f[j]) != plan.Runs() {
+			return nil, fmt.Errorf("sobol study: output %s has %d runs, want %d", outs[j].Name, len(f[j]), plan.Runs())
+		}
+	}
 	idx := make([][]SobolIndex, len(outs))
-	g, gctx = errgroup.WithContext(ctx)
+	g, gctx := errgroup.WithContext(ctx)
 	g.SetLimit(workers)
 	for j := range outs {
 		g.Go(func() error {

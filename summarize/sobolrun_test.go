@@ -418,3 +418,35 @@ func TestSobolGolden(t *testing.T) {
 		}
 	}
 }
+
+// TestSobolSolveSplit: solving the design's rows in pieces (as shards do)
+// and reducing once gives exactly the indices of one Sobol call.
+func TestSobolSolveSplit(t *testing.T) {
+	t.Parallel()
+	st, _, in := mustInputs(t, narrowStudy)
+	pvi, cut := st.Report.PVI, st.Report.CutLimit
+	const n, seed = 64, 11
+	want, err := Sobol(context.Background(), in, pvi, cut, n, seed, 2, 50, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := NewSobolRuns(in, pvi, n)
+	for _, r := range [][2]int{{40, 64}, {0, 13}, {13, 40}} {
+		if err := SobolSolve(context.Background(), in, pvi, cut, n, seed, 1, r[0], r[1], f, nil); err != nil {
+			t.Fatal(err)
+		}
+	}
+	got, err := SobolReduce(context.Background(), in, pvi, n, seed, 3, 50, f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != len(want) {
+		t.Fatalf("%d rows, want %d", len(got), len(want))
+	}
+	for i := range got {
+		g, w := got[i], want[i]
+		if !sameBits(g.First, w.First) || !sameBits(g.Total, w.Total) || !sameBits(g.FirstLow, w.FirstLow) || !sameBits(g.TotalHigh, w.TotalHigh) || g.N != w.N {
+			t.Errorf("row %d: split %+v, one call %+v", i, g, w)
+		}
+	}
+}
