@@ -633,6 +633,14 @@ func probeLast(g func(float64) (float64, float64), end, from, z, gfrom float64) 
 // narrowed ends keep a sign change only approximately; a grid point whose
 // sign disagrees with its neighbour's end is simply not used.
 func (sc *scan) narrow(lo, hi, glo, ghi float64, g func(k int) float64) (float64, float64, float64, float64) {
+	lo, hi, glo, ghi, _, _ = sc.narrowAt(lo, hi, glo, ghi, g)
+	return lo, hi, glo, ghi
+}
+
+// narrowAt is narrow that also returns the grid indices of the new ends,
+// −1 for an end that is still lo or hi.
+func (sc *scan) narrowAt(lo, hi, glo, ghi float64, g func(k int) float64) (float64, float64, float64, float64, int, int) {
+	klo, khi := -1, -1
 	// Grid points strictly inside (lo, hi).
 	i := sort.SearchFloat64s(sc.x[:sc.n], lo)
 	for i < sc.n && sc.x[i] <= lo {
@@ -640,7 +648,7 @@ func (sc *scan) narrow(lo, hi, glo, ghi float64, g func(k int) float64) (float64
 	}
 	j := sort.SearchFloat64s(sc.x[:sc.n], hi) - 1
 	if i > j {
-		return lo, hi, glo, ghi
+		return lo, hi, glo, ghi, klo, khi
 	}
 	neg := glo < 0
 	// Binary search for the last inside point whose sign matches lo's.
@@ -654,12 +662,12 @@ func (sc *scan) narrow(lo, hi, glo, ghi float64, g func(k int) float64) (float64
 		}
 	}
 	if a > i {
-		lo, glo = sc.x[a-1], g(a-1)
+		lo, glo, klo = sc.x[a-1], g(a-1), a-1
 	}
 	if a <= j {
-		hi, ghi = sc.x[a], g(a)
+		hi, ghi, khi = sc.x[a], g(a), a
 	}
-	return lo, hi, glo, ghi
+	return lo, hi, glo, ghi, klo, khi
 }
 
 // fAt returns f at a contact point, exact at the grid's end states.
@@ -678,8 +686,41 @@ func (sc *scan) fAt(ff *FracFlow, s float64) float64 {
 // derivative. Newton steps are taken while they stay inside the shrinking
 // bracket; otherwise the step is a bisection, so the iteration cannot fail.
 func solveBracket(lo, hi, glo, ghi float64, g func(float64) (float64, float64)) float64 {
-	x, _, _ := solveBracketAt(lo, hi, glo, ghi, g)
+	x, _, _ := solveBracketFrom(lo, hi, glo, ghi, math.NaN(), g)
 	return x
+}
+
+// solveBracketAt is [solveBracketFrom] starting from false position.
+func solveBracketAt(lo, hi, glo, ghi float64, g func(float64) (float64, float64)) (x, xe, dge float64) {
+	return solveBracketFrom(lo, hi, glo, ghi, math.NaN(), g)
+}
+
+// hermiteRoot returns the root in (x0, x1) of the cubic Hermite
+// interpolant of g through (x0, g0, d0) and (x1, g1, d1), where g0 and g1
+// have opposite signs, or NaN when the interpolant does not give one: a
+// starting point for Newton on g accurate to O(h⁴) where g is smooth.
+func hermiteRoot(x0, x1, g0, g1, d0, d1 float64) float64 {
+	h := x1 - x0
+	if !(h > 0) || math.IsNaN(d0+d1) || math.IsInf(d0+d1, 0) || g0*g1 >= 0 {
+		return math.NaN()
+	}
+	// p(t) on t ∈ [0, 1] with p(0) = g0, p(1) = g1, p'(0) = h d0, p'(1) = h d1.
+	m0, m1 := h*d0, h*d1
+	c2 := 3*(g1-g0) - 2*m0 - m1
+	c3 := 2*(g0-g1) + m0 + m1
+	t := g0 / (g0 - g1) // false position start
+	for range 4 {
+		p := g0 + t*(m0+t*(c2+t*c3))
+		dp := m0 + t*(2*c2+3*t*c3)
+		if dp == 0 {
+			break
+		}
+		t -= p / dp
+	}
+	if !(t > 0 && t < 1) {
+		return math.NaN()
+	}
+	return x0 + t*h
 }
 
 // newtonAccept is the Newton step below which the next iterate is taken
@@ -700,7 +741,10 @@ const newtonAccept = 1e-12
 // singularity at a bracket end (f″ infinite at a residual saturation) and
 // Newton alone would stall; a bisection follows when even that fails to
 // halve the bracket.
-func solveBracketAt(lo, hi, glo, ghi float64, g func(float64) (float64, float64)) (x, xe, dge float64) {
+//
+// x0, when inside the bracket, is the first point evaluated; NaN starts
+// from false position.
+func solveBracketFrom(lo, hi, glo, ghi, x0 float64, g func(float64) (float64, float64)) (x, xe, dge float64) {
 	if glo == 0 {
 		return lo, lo, math.NaN()
 	}
@@ -718,6 +762,9 @@ func solveBracketAt(lo, hi, glo, ghi float64, g func(float64) (float64, float64)
 		return 0.5 * (lo + hi)
 	}
 	x = falsePos()
+	if x0 > math.Min(lo, hi) && x0 < math.Max(lo, hi) {
+		x = x0
+	}
 	prevStep := math.Inf(1)
 	side := 0 // which end the last false-position step replaced: −1 lo, +1 hi
 	width := math.Abs(hi - lo)

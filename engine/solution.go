@@ -176,11 +176,18 @@ func (sol *Solution) fanState(p *Piece, xi float64, sc *scan) (s, f float64) {
 		return p.Hi, p.FHi
 	}
 	lo, hi, glo, ghi := p.Lo, p.Hi, p.SpeedLo-xi, p.SpeedHi-xi
+	x0 := math.NaN()
 	if sc != nil {
-		lo, hi, glo, ghi = sc.narrow(lo, hi, glo, ghi, func(k int) float64 { return sc.dy[k] - xi })
+		var klo, khi int
+		lo, hi, glo, ghi, klo, khi = sc.narrowAt(lo, hi, glo, ghi, func(k int) float64 { return sc.dy[k] - xi })
+		if klo >= 0 && khi == klo+1 {
+			// Both ends are grid points with f'' known: start Newton from
+			// the root of the cubic through f' and f'' there.
+			x0 = hermiteRoot(lo, hi, glo, ghi, sc.d2y[klo], sc.d2y[khi])
+		}
 	}
 	fe := math.NaN() // f at the last point evaluated, if any
-	s, se, _ := solveBracketAt(lo, hi, glo, ghi, func(s float64) (float64, float64) {
+	s, se, _ := solveBracketFrom(lo, hi, glo, ghi, x0, func(s float64) (float64, float64) {
 		f, df, d2f := sol.Flow.Eval(s)
 		fe = f
 		return df - xi, d2f
