@@ -197,15 +197,11 @@ func readSummaryRows(path string, mem memory.Allocator) ([]summarize.SummaryRow,
 		return nil, err
 	}
 	rows := make([]summarize.SummaryRow, t.n)
-	names := []string{"mean", "sd", "min", "max", "p90", "p50", "p10", "swanson_mean",
-		"p90_low", "p90_high", "p50_low", "p50_high", "p10_low", "p10_high"}
-	err = t.floats(names, func(i int, v []float64) {
+	err = t.floats(fieldNames(summaryFields), func(i int, v []float64) {
 		r := &rows[i]
 		r.Output, r.N, r.NRejected = out[i], int(n[i]), int(rej[i])
 		r.Level = PercentileLevel
-		r.Mean, r.SD, r.Min, r.Max = v[0], v[1], v[2], v[3]
-		r.P90, r.P50, r.P10, r.SwansonMean = v[4], v[5], v[6], v[7]
-		r.P90Low, r.P90High, r.P50Low, r.P50High, r.P10Low, r.P10High = v[8], v[9], v[10], v[11], v[12], v[13]
+		setFields(r, summaryFields, v)
 	})
 	return rows, err
 }
@@ -216,9 +212,8 @@ func readCurveRows(path string, mem memory.Allocator) ([]summarize.CurveRow, err
 		return nil, err
 	}
 	rows := make([]summarize.CurveRow, t.n)
-	names := []string{"pvi", "recovery_p90", "recovery_p50", "recovery_p10", "cut_p90", "cut_p50", "cut_p10"}
-	err = t.floats(names, func(i int, v []float64) {
-		rows[i] = summarize.CurveRow{PVI: v[0], RecoveryP90: v[1], RecoveryP50: v[2], RecoveryP10: v[3], CutP90: v[4], CutP50: v[5], CutP10: v[6]}
+	err = t.floats(fieldNames(curveFields), func(i int, v []float64) {
+		setFields(&rows[i], curveFields, v)
 	})
 	return rows, err
 }
@@ -241,10 +236,10 @@ func readTornadoRows(path string, mem memory.Allocator) ([]summarize.TornadoRow,
 		return nil, err
 	}
 	rows := make([]summarize.TornadoRow, t.n)
-	names := []string{"input_low", "input_base", "input_high", "output_base", "output_at_low", "output_at_high", "swing"}
-	err = t.floats(names, func(i int, v []float64) {
-		rows[i] = summarize.TornadoRow{Output: out[i], Parameter: par[i], InputLow: v[0], InputBase: v[1], InputHigh: v[2],
-			OutputBase: v[3], OutputAtLow: v[4], OutputAtHigh: v[5], Swing: v[6], Rank: int(rank[i])}
+	err = t.floats(fieldNames(tornadoFields), func(i int, v []float64) {
+		r := &rows[i]
+		r.Output, r.Parameter, r.Rank = out[i], par[i], int(rank[i])
+		setFields(r, tornadoFields, v)
 	})
 	return rows, err
 }

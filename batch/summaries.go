@@ -169,46 +169,13 @@ func summaryTable(rows []summarize.SummaryRow) *Table {
 	t.Add("output", "", names)
 	t.Add("n", "", counts)
 	t.Add("n_rejected", "", rejected)
-	get := func(f func(r *summarize.SummaryRow) float64) []float64 {
-		out := make([]float64, n)
-		for i := range rows {
-			out[i] = f(&rows[i])
-		}
-		return out
-	}
-	t.Add("mean", "", get(func(r *summarize.SummaryRow) float64 { return r.Mean }))
-	t.Add("sd", "", get(func(r *summarize.SummaryRow) float64 { return r.SD }))
-	t.Add("min", "", get(func(r *summarize.SummaryRow) float64 { return r.Min }))
-	t.Add("max", "", get(func(r *summarize.SummaryRow) float64 { return r.Max }))
-	t.Add("p90", "", get(func(r *summarize.SummaryRow) float64 { return r.P90 }))
-	t.Add("p50", "", get(func(r *summarize.SummaryRow) float64 { return r.P50 }))
-	t.Add("p10", "", get(func(r *summarize.SummaryRow) float64 { return r.P10 }))
-	t.Add("swanson_mean", "", get(func(r *summarize.SummaryRow) float64 { return r.SwansonMean }))
-	t.Add("p90_low", "", get(func(r *summarize.SummaryRow) float64 { return r.P90Low }))
-	t.Add("p90_high", "", get(func(r *summarize.SummaryRow) float64 { return r.P90High }))
-	t.Add("p50_low", "", get(func(r *summarize.SummaryRow) float64 { return r.P50Low }))
-	t.Add("p50_high", "", get(func(r *summarize.SummaryRow) float64 { return r.P50High }))
-	t.Add("p10_low", "", get(func(r *summarize.SummaryRow) float64 { return r.P10Low }))
-	t.Add("p10_high", "", get(func(r *summarize.SummaryRow) float64 { return r.P10High }))
+	addFields(t, rows, summaryFields)
 	return t
 }
 
 func curvesTable(rows []summarize.CurveRow) *Table {
 	t := &Table{}
-	get := func(f func(r *summarize.CurveRow) float64) []float64 {
-		out := make([]float64, len(rows))
-		for i := range rows {
-			out[i] = f(&rows[i])
-		}
-		return out
-	}
-	t.Add("pvi", "PVI", get(func(r *summarize.CurveRow) float64 { return r.PVI }))
-	t.Add("recovery_p90", "fraction", get(func(r *summarize.CurveRow) float64 { return r.RecoveryP90 }))
-	t.Add("recovery_p50", "fraction", get(func(r *summarize.CurveRow) float64 { return r.RecoveryP50 }))
-	t.Add("recovery_p10", "fraction", get(func(r *summarize.CurveRow) float64 { return r.RecoveryP10 }))
-	t.Add("cut_p90", "fraction", get(func(r *summarize.CurveRow) float64 { return r.CutP90 }))
-	t.Add("cut_p50", "fraction", get(func(r *summarize.CurveRow) float64 { return r.CutP50 }))
-	t.Add("cut_p10", "fraction", get(func(r *summarize.CurveRow) float64 { return r.CutP10 }))
+	addFields(t, rows, curveFields)
 	return t
 }
 
@@ -219,23 +186,10 @@ func tornadoTable(rows []summarize.TornadoRow) *Table {
 	for i, r := range rows {
 		out[i], par[i], rank[i] = r.Output, r.Parameter, int64(r.Rank)
 	}
-	get := func(f func(r *summarize.TornadoRow) float64) []float64 {
-		v := make([]float64, n)
-		for i := range rows {
-			v[i] = f(&rows[i])
-		}
-		return v
-	}
 	t := &Table{}
 	t.Add("output", "", out)
 	t.Add("parameter", "", par)
-	t.Add("input_low", "", get(func(r *summarize.TornadoRow) float64 { return r.InputLow }))
-	t.Add("input_base", "", get(func(r *summarize.TornadoRow) float64 { return r.InputBase }))
-	t.Add("input_high", "", get(func(r *summarize.TornadoRow) float64 { return r.InputHigh }))
-	t.Add("output_base", "", get(func(r *summarize.TornadoRow) float64 { return r.OutputBase }))
-	t.Add("output_at_low", "", get(func(r *summarize.TornadoRow) float64 { return r.OutputAtLow }))
-	t.Add("output_at_high", "", get(func(r *summarize.TornadoRow) float64 { return r.OutputAtHigh }))
-	t.Add("swing", "", get(func(r *summarize.TornadoRow) float64 { return r.Swing }))
+	addFields(t, rows, tornadoFields)
 	t.Add("rank", "", rank)
 	return t
 }
