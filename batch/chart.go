@@ -304,15 +304,24 @@ func minus(s string) string {
 	return s
 }
 
-// label formats a value for a chart label: three significant digits.
-func label(v float64) string {
+// nonFinite returns how charts and tables print NaN ("–") and ±Inf, and
+// false for a finite v.
+func nonFinite(v float64) (string, bool) {
 	switch {
 	case math.IsNaN(v):
-		return "–"
+		return "–", true
 	case math.IsInf(v, 1):
-		return "∞"
+		return "∞", true
 	case math.IsInf(v, -1):
-		return "−∞"
+		return "−∞", true
+	}
+	return "", false
+}
+
+// label formats a value for a chart label: three significant digits.
+func label(v float64) string {
+	if s, ok := nonFinite(v); ok {
+		return s
 	}
 	a := math.Abs(v)
 	if a != 0 && (a < 1e-4 || a >= 1e6) {

@@ -7,7 +7,6 @@ import (
 	"errors"
 	"fmt"
 	"html/template"
-	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -427,13 +426,8 @@ footer { margin-top: 2.5rem; padding-top: 0.6rem; border-top: 1px solid var(--ru
 
 // fmtNum prints a number with four significant digits, NaN as "–".
 func fmtNum(v float64) string {
-	switch {
-	case math.IsNaN(v):
-		return "–"
-	case math.IsInf(v, 1):
-		return "∞"
-	case math.IsInf(v, -1):
-		return "−∞"
+	if s, ok := nonFinite(v); ok {
+		return s
 	}
 	return strconv.FormatFloat(v, 'g', 4, 64)
 }
