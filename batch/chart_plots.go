@@ -38,6 +38,10 @@ func (w words) output(name string) string {
 		return "Recovery at breakthrough"
 	case engine.ColPVIAtCutLimit:
 		return "Pore volumes to " + label(w.st.Report.CutLimit) + " " + w.cut()
+	case engine.ColBreakthroughDays:
+		return "Breakthrough day"
+	case engine.ColProducedAtCutLimit:
+		return upperFirst(w.st.Phases.Displaced) + " produced by " + label(w.st.Report.CutLimit) + " " + w.cut()
 	}
 	for _, x := range w.st.Report.PVI {
 		if name == engine.CheckpointColumn("recovery", x) {
@@ -61,6 +65,10 @@ func (w words) axisLabel(name string) string {
 		return lowerFirst(w.output(name)) + " (" + w.recoveryUnit() + ")"
 	case strings.HasPrefix(name, "cut_"):
 		return w.output(name) + " (fraction)"
+	case name == engine.ColBreakthroughDays:
+		return "breakthrough (days from the start of injection)"
+	case name == engine.ColProducedAtCutLimit:
+		return lowerFirst(w.output(name)) + " (m³ at surface conditions)"
 	}
 	return name
 }

@@ -2,8 +2,6 @@ package batch
 
 import (
 	"context"
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io/fs"
@@ -18,7 +16,6 @@ import (
 	"github.com/apache/arrow/go/v17/arrow/memory"
 	"golang.org/x/sync/errgroup"
 
-	"github.com/sweepstat/sweepstat/engine"
 	"github.com/sweepstat/sweepstat/sampler"
 	"github.com/sweepstat/sweepstat/studies"
 )
@@ -255,10 +252,15 @@ func checkStudy(sd string, workers int) (*MergePlan, []string) {
 	// The study itself, from the reference shard's copy.
 	var st *studies.Study
 	src := []byte(refM.StudyText)
-	if sum := sha256.Sum256(src); hex.EncodeToString(sum[:]) != refM.StudyHash {
-		bad("shard %s: the study text in %s does not hash to its study_hash", refM.Of(), rel(from[refM.Of()]))
-	} else if st, err = studies.Parse(refM.Source, src); err != nil {
+	var opts studies.ParseOptions
+	if refM.TableText != "" {
+		opts = textTables(refM.TableName, refM.TableText)
+	}
+	if st, err = studies.ParseWith(refM.Source, src, opts); err != nil {
 		bad("shard %s: the study text in %s does not parse: %v", refM.Of(), rel(from[refM.Of()]), err)
+		st = nil
+	} else if st.Hash != refM.StudyHash {
+		bad("shard %s: the study text in %s does not hash to its study_hash", refM.Of(), rel(from[refM.Of()]))
 		st = nil
 	} else if st.Name != filepath.Base(sd) {
 		bad("the shards are of study %q, but the folder is %s", st.Name, filepath.Base(sd))
@@ -420,7 +422,7 @@ func MergeStudy(ctx context.Context, p *MergePlan, opt Options) (*Info, error) {
 // case index, and each shard's row count.
 func mergeCases(ctx context.Context, p *MergePlan, path string, opt Options, mem memory.Allocator) error {
 	st := p.Study
-	schema := casesSchema(engine.Outputs(st.Report.PVI))
+	schema := casesSchema(st, st.Model().Outputs(st.Report.PVI))
 	w, err := newIPCWriter(path, schema, mem)
 	if err != nil {
 		return err

@@ -186,6 +186,62 @@ type reportData struct {
 	Figures   figures
 	Headline  []headline
 	CaseTable caseTable
+	Units     map[string]string // output column → unit
+	Model     []fact            // how the cases were modelled
+}
+
+// fact is one term and its description in the report's run facts.
+type fact struct{ Term, Text string }
+
+// modelFacts describes the study's relative-permeability model and its
+// volumes section.
+func modelFacts(st *studies.Study) []fact {
+	m := st.Model()
+	var out []fact
+	switch m.Family {
+	case engine.FamilyCorey:
+		out = append(out, fact{"relative permeability", "Corey power laws, exponents n1 and n2 (Corey 1954)"})
+	case engine.FamilyLET:
+		out = append(out, fact{"relative permeability", "LET correlation, parameters let_l1 … let_t2 (Lomeland, Ebeltoft & Thomas 2005)"})
+	case engine.FamilyTable:
+		var names []string
+		for i, t := range m.Tables {
+			names = append(names, strconv.Itoa(i+1)+" "+t.Name())
+		}
+		ends := "re-scaled to each case's s1r, s2r, kr1_max and kr2_max (two-point end-point scaling)"
+		if m.TableEnds == [4]bool{true, true, true, true} {
+			ends = "at each sample's own end points"
+		} else if m.TableEnds != [4]bool{} {
+			ends = "with the end points the study gives re-scaled and the others at each sample's own"
+		}
+		out = append(out, fact{"relative permeability", "measured curves from " + st.Relperm.Table + " (copy: " + TableFile +
+			"), monotone piecewise-cubic interpolation (Fritsch & Carlson 1980), " + ends + "; rock samples " + strings.Join(names, ", ")})
+	}
+	v := m.Volumes
+	if v == nil {
+		return append(out, fact{"units", "dimensionless: saturations and recoveries as fractions, time in pore volumes injected (PVI)"})
+	}
+	rate := "constant rate_m3_per_day (reservoir m³/day)"
+	if v.Schedule != nil {
+		steps := make([]string, len(v.Schedule))
+		for i, s := range v.Schedule {
+			steps[i] = "from day " + fmtNum(s.FromDay) + " " + fmtNum(s.M3PerDay) + " m³/day"
+		}
+		rate = "schedule: " + strings.Join(steps, "; ")
+	}
+	units := "days, pore volume in reservoir m³, produced " + st.Phases.Displaced + " in m³ at surface conditions (reservoir m³ / b2)"
+	if v.FieldUnits {
+		units += " and in barrels (1 bbl = 0.158987294928 m³, NIST SP 811)"
+	}
+	flux := "velocity_m_per_day as given"
+	if v.VelocityFromRate {
+		flux = "rate_m3_per_day / area_m2"
+	}
+	return append(out,
+		fact{"injection", rate + "; pore volume = length_m × area_m2 × porosity"},
+		fact{"units", units},
+		fact{"flux in the gravity number", flux},
+	)
 }
 
 // figure is one chart as the report places it.
@@ -316,6 +372,8 @@ footer { margin-top: 2.5rem; padding-top: 0.6rem; border-top: 1px solid var(--ru
 <dt>cases</dt><dd>{{count .Info.Cases}}</dd>
 <dt>rejected cases</dt><dd>{{count .Info.Rejected}}{{range $k, $v := .Info.RejectedBy}} · {{$k}}: {{count $v}}{{end}}</dd>
 <dt>percentiles</dt><dd>{{.Convention}}</dd>
+{{range .Model}}<dt>{{.Term}}</dt><dd>{{.Text}}</dd>
+{{end}}
 <dt>version</dt><dd>{{.Info.Version}}</dd>
 <dt>started (UTC)</dt><dd>{{.Info.Started}}</dd>
 </dl>
@@ -384,9 +442,9 @@ footer { margin-top: 2.5rem; padding-top: 0.6rem; border-top: 1px solid var(--ru
 <section id="tables">
 <h2>Summary</h2>
 <div class="scroll"><table>
-<thead><tr><th>output</th><th>n</th><th>rejected</th><th>mean</th><th>sd</th><th>P90</th><th>P50</th><th>P10</th><th>Swanson mean</th><th>P50 95 % interval</th></tr></thead>
+<thead><tr><th>output</th><th>unit</th><th>n</th><th>rejected</th><th>mean</th><th>sd</th><th>P90</th><th>P50</th><th>P10</th><th>Swanson mean</th><th>P50 95 % interval</th></tr></thead>
 <tbody>
-{{range .Summary}}<tr><td>{{.Output}}</td><td>{{.N}}</td><td>{{.NRejected}}</td><td>{{num .Mean}}</td><td>{{num .SD}}</td><td>{{num .P90}}</td><td>{{num .P50}}</td><td>{{num .P10}}</td><td>{{num .SwansonMean}}</td><td>{{num .P50Low}} – {{num .P50High}}</td></tr>
+{{range .Summary}}<tr><td>{{.Output}}</td><td>{{index $.Units .Output}}</td><td>{{.N}}</td><td>{{.NRejected}}</td><td>{{num .Mean}}</td><td>{{num .SD}}</td><td>{{num .P90}}</td><td>{{num .P50}}</td><td>{{num .P10}}</td><td>{{num .SwansonMean}}</td><td>{{num .P50Low}} – {{num .P50High}}</td></tr>
 {{end}}</tbody>
 </table></div>
 
@@ -461,6 +519,11 @@ func writeReport(ctx context.Context, dir string, st *studies.Study, design *sam
 		d.Builder = d.Info.Version
 	}
 	d.Headline = headlines(d, cd)
+	d.Model = modelFacts(st)
+	d.Units = map[string]string{}
+	for _, o := range st.Model().Outputs(st.Report.PVI) {
+		d.Units[o.Name] = unitText(o.Unit)
+	}
 	d.CaseTable = casesTable(cd, st, design)
 	docs := chartDocs(cd, d, st)
 	if err := os.MkdirAll(filepath.Join(dir, ChartsDir), 0o755); err != nil {
@@ -545,13 +608,23 @@ func chartDocs(cd *chartData, d *reportData, st *studies.Study) []chartDoc {
 func headlines(d *reportData, cd *chartData) []headline {
 	w := words{d.Study}
 	var out []headline
-	for _, name := range []string{engine.ColBreakthroughPVI, cd.KeyRecovery} {
+	names := []string{engine.ColBreakthroughPVI, cd.KeyRecovery}
+	if d.Study.Model().Volumes != nil {
+		names = append(names, engine.ColBreakthroughDays, engine.ColProducedAtCutLimit)
+	}
+	for _, name := range names {
 		for _, r := range d.Summary {
 			if r.Output != name {
 				continue
 			}
 			unit := "pore volumes injected"
-			if name != engine.ColBreakthroughPVI {
+			switch name {
+			case engine.ColBreakthroughPVI:
+			case engine.ColBreakthroughDays:
+				unit = "days"
+			case engine.ColProducedAtCutLimit:
+				unit = "m³ at surface conditions"
+			default:
 				unit = w.recoveryUnit()
 			}
 			out = append(out, headline{Title: w.output(name), Unit: unit, P90: r.P90, P50: r.P50, P10: r.P10, N: r.N})

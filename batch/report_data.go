@@ -128,11 +128,15 @@ type rankMatrix struct {
 
 // keyOutputList returns the outputs whose tornado the report draws, in
 // the report's order: breakthrough, recovery at the cut limit, recovery at
-// each checkpoint.
-func keyOutputList(pvi []float64) []string {
+// each checkpoint, and with a volumes section the breakthrough day and
+// the volume produced by the cut limit.
+func keyOutputList(st *studies.Study) []string {
 	list := []string{engine.ColBreakthroughPVI, engine.ColRecoveryAtCutLimit}
-	for _, x := range pvi {
+	for _, x := range st.Report.PVI {
 		list = append(list, engine.CheckpointColumn("recovery", x))
+	}
+	if st.Model().Volumes != nil {
+		list = append(list, engine.ColBreakthroughDays, engine.ColProducedAtCutLimit)
 	}
 	return list
 }
@@ -140,9 +144,9 @@ func keyOutputList(pvi []float64) []string {
 // tornadoCharts groups the tornado rows of the key outputs into charts,
 // each with its bars sorted by rank (ties, which Tornado does not make,
 // would keep the rows' order).
-func tornadoCharts(rows []summarize.TornadoRow, pvi []float64) []tornadoChart {
+func tornadoCharts(rows []summarize.TornadoRow, st *studies.Study) []tornadoChart {
 	var charts []tornadoChart
-	for _, out := range keyOutputList(pvi) {
+	for _, out := range keyOutputList(st) {
 		c := tornadoChart{Output: out, Base: math.NaN()}
 		for _, r := range rows {
 			if r.Output == out {
@@ -370,7 +374,7 @@ func computeCharts(ctx context.Context, dir string, st *studies.Study, design *s
 		return col, ctx.Err()
 	}
 	pvi := st.Report.PVI
-	cd := &chartData{Conv: conv, Tornado: tornadoCharts(d.Tornado, pvi)}
+	cd := &chartData{Conv: conv, Tornado: tornadoCharts(d.Tornado, st)}
 
 	col, err := column(engine.ColBreakthroughPVI)
 	if err != nil {
@@ -379,6 +383,15 @@ func computeCharts(ctx context.Context, dir string, st *studies.Study, design *s
 	total := len(col)
 	bt := newExceedance(engine.ColBreakthroughPVI, col, conv)
 	cd.Exceed = append(cd.Exceed, bt)
+	if st.Model().Volumes != nil {
+		for _, name := range []string{engine.ColBreakthroughDays, engine.ColProducedAtCutLimit} {
+			c, err := column(name)
+			if err != nil {
+				return nil, err
+			}
+			cd.Exceed = append(cd.Exceed, newExceedance(name, c, conv))
+		}
+	}
 
 	// The key recovery: at the cut limit, unless no case reaches it.
 	key := engine.ColRecoveryAtCutLimit
@@ -425,7 +438,7 @@ func computeCharts(ctx context.Context, dir string, st *studies.Study, design *s
 	}
 	progress()
 	progress()
-	cd.solveCases(bt)
+	cd.solveCases(st.Model(), bt)
 	return cd, ctx.Err()
 }
 
@@ -470,14 +483,17 @@ func (cd *chartData) scanInputs(path string, st *studies.Study, design *sampler.
 		cd.Hist = append(cd.Hist, newHistogram(l.Param, specs[l.Param], design.Dist(int(l.Param)), int64(total)))
 	}
 
-	all := make([]string, engine.NumParams)
-	for p := range engine.NumParams {
-		all[p] = p.String()
+	params := st.Model().Params()
+	all := make([]string, len(params))
+	colOf := make(map[engine.Param]int, len(params))
+	for j, p := range params {
+		all[j] = p.String()
+		colOf[p] = j
 	}
 	return scanFloat64(path, mem, all, func(start int, cols [][]float64) error {
 		for k, l := range in.Leaders {
 			h := &cd.Hist[k]
-			for _, v := range cols[l.Param] {
+			for _, v := range cols[colOf[l.Param]] {
 				h.add(v)
 			}
 		}
@@ -485,8 +501,8 @@ func (cd *chartData) scanInputs(path string, st *studies.Study, design *sampler.
 		for i := range cd.Cases {
 			c := &cd.Cases[i]
 			if c.Case >= start && c.Case < end {
-				for p := range all {
-					c.Params[p] = cols[p][c.Case-start]
+				for j, p := range params {
+					c.Params[p] = cols[j][c.Case-start]
 				}
 			}
 		}
@@ -536,10 +552,10 @@ func rankCorrelations(names []string, cols [][]float64, st *studies.Study, total
 // saturation profiles: half and twice the P50 breakthrough, rounded to
 // two significant digits, so that one profile shows the front inside the
 // model and one after breakthrough.
-func (cd *chartData) solveCases(bt exceedance) {
+func (cd *chartData) solveCases(m *engine.Model, bt exceedance) {
 	for i := range cd.Cases {
 		c := &cd.Cases[i]
-		c.Sol, _ = engine.Solve(c.Params)
+		c.Sol, _ = engine.SolveModel(m, c.Params)
 	}
 	t := math.NaN()
 	for _, m := range bt.Marks {

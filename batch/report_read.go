@@ -18,8 +18,31 @@ import (
 
 // StudyFile is the copy of the study file kept in a study's output folder,
 // byte for byte, so that the report can be rebuilt from the folder alone
-// ([Report]). Its SHA-256 is run.json's study_hash.
+// ([Report]). Its SHA-256 is run.json's study_hash (with the table, for
+// a table study).
 const StudyFile = "study.yaml"
+
+// TableFile is the copy of a table study's measured curves kept in its
+// output folder, byte for byte; the folder's study.yaml is read with it
+// in place of the file the study names.
+const TableFile = "relperm-table.csv"
+
+// folderTables reads relperm.table from the output folder dir.
+func folderTables(dir string) studies.ParseOptions {
+	return studies.ParseOptions{ReadTable: func(string) (string, []byte, error) {
+		path := filepath.Join(dir, TableFile)
+		data, err := os.ReadFile(path)
+		return path, data, err
+	}}
+}
+
+// textTables serves relperm.table from bytes kept elsewhere (a shard
+// manifest).
+func textTables(name string, text string) studies.ParseOptions {
+	return studies.ParseOptions{ReadTable: func(string) (string, []byte, error) {
+		return name, []byte(text), nil
+	}}
+}
 
 // studySource returns the exact bytes st was parsed from: the embedded
 // demo study, or the file at st.Source if it still hashes to st.Hash. It
@@ -36,7 +59,7 @@ func studySource(st *studies.Study) ([]byte, bool) {
 		}
 	}
 	sum := sha256.Sum256(data)
-	if hex.EncodeToString(sum[:]) != st.Hash {
+	if hex.EncodeToString(sum[:]) != st.FileHash {
 		return nil, false
 	}
 	return data, true
@@ -49,7 +72,7 @@ func writeStudySource(dir string, st *studies.Study, src []byte) ([]string, erro
 	data, ok := src, src != nil
 	if ok {
 		sum := sha256.Sum256(data)
-		ok = hex.EncodeToString(sum[:]) == st.Hash
+		ok = hex.EncodeToString(sum[:]) == st.FileHash
 	}
 	if !ok {
 		data, ok = studySource(st)
@@ -60,7 +83,13 @@ func writeStudySource(dir string, st *studies.Study, src []byte) ([]string, erro
 	if err := writeFileAtomic(filepath.Join(dir, StudyFile), data); err != nil {
 		return nil, err
 	}
-	return []string{StudyFile}, nil
+	if st.Relperm.TableData == nil {
+		return []string{StudyFile}, nil
+	}
+	if err := writeFileAtomic(filepath.Join(dir, TableFile), st.Relperm.TableData); err != nil {
+		return nil, err
+	}
+	return []string{StudyFile, TableFile}, nil
 }
 
 // loadFolder reads what a report needs from a finished study folder:
@@ -80,7 +109,7 @@ func loadFolder(dir string, mem memory.Allocator) (*studies.Study, *reportData, 
 	if err != nil {
 		return nil, nil, fmt.Errorf("%w (the study file is kept there by runs of this version; run the study again)", err)
 	}
-	st, err := studies.Parse(path, src)
+	st, err := studies.ParseWith(path, src, folderTables(dir))
 	if err != nil {
 		return nil, nil, err
 	}
@@ -91,7 +120,7 @@ func loadFolder(dir string, mem memory.Allocator) (*studies.Study, *reportData, 
 	// count of a parsed study); run.json says what was run.
 	st.Cases = info.Cases
 
-	d := &reportData{Info: info, Study: st, Convention: st.Report.Percentiles, Keys: keyOutputs(st.Report.PVI)}
+	d := &reportData{Info: info, Study: st, Convention: st.Report.Percentiles, Keys: keyOutputs(st)}
 	if d.Summary, err = readSummaryRows(filepath.Join(dir, SummaryFile), mem); err != nil {
 		return nil, nil, err
 	}

@@ -73,10 +73,10 @@ func unwrapAll(err error) []error {
 }
 
 // casesSchema returns the schema of cases.arrow: the case index, every
-// engine parameter, every output column and the status.
-func casesSchema(outs []engine.Output) *arrow.Schema {
+// parameter the study's model reads, every output column and the status.
+func casesSchema(st *studies.Study, outs []engine.Output) *arrow.Schema {
 	fields := []arrow.Field{field(engine.ColCase, arrow.PrimitiveTypes.Int64, "")}
-	for p := engine.Param(0); p < engine.NumParams; p++ {
+	for _, p := range st.Model().Params() {
 		fields = append(fields, field(p.String(), arrow.PrimitiveTypes.Float64, p.Unit()))
 	}
 	for _, o := range outs {
@@ -90,7 +90,7 @@ func casesSchema(outs []engine.Output) *arrow.Schema {
 // column-wise.
 type chunk struct {
 	start, count int
-	in           [][]float64 // engine.NumParams columns
+	in           [][]float64 // engine.NumParams columns, resolved by the model
 	out          [][]float64 // one column per output
 	status       []string
 	done         chan struct{}
@@ -112,6 +112,12 @@ func (w *worker) solveChunk(st *studies.Study, outs []engine.Output, c *chunk) {
 			row[j] = c.in[j][k]
 		}
 		p := st.Case(row[:])
+		// The derived inputs (a rock sample's end points, the
+		// cross-section, the flux) are written as the case used them.
+		w.solver.Model.Resolve(&p)
+		for j := range row {
+			c.in[j][k] = p[j]
+		}
 		w.solver.SolveCase(&p, st.Report.PVI, st.Report.CutLimit, &w.res)
 		for o := range outs {
 			c.out[o][k] = outs[o].Get(&w.res)
@@ -356,8 +362,8 @@ func swapIn(stage, final string) error {
 // opt.BatchRows cases starting at lo. It returns the count of rejected
 // cases by status. Memory is bounded by 2·workers record batches.
 func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator) (map[string]int, error) {
-	outs := engine.Outputs(st.Report.PVI)
-	schema := casesSchema(outs)
+	outs := st.Model().Outputs(st.Report.PVI)
+	schema := casesSchema(st, outs)
 	w, err := newIPCWriter(path, schema, mem)
 	if err != nil {
 		return nil, err
@@ -379,7 +385,7 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 
 	pool := make(chan *worker, workers)
 	for range workers {
-		pool <- &worker{fill: design.NewFiller()}
+		pool <- &worker{fill: design.NewFiller(), solver: engine.Solver{Model: st.Model()}}
 	}
 	free := make(chan *chunk, 2*workers)
 	for range 2 * workers {
@@ -435,7 +441,7 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 		case <-gctx.Done():
 		}
 		if werr == nil && gctx.Err() == nil {
-			werr = appendChunk(w.b, c, outs, rejected)
+			werr = appendChunk(w.b, c, st.Model().Params(), outs, rejected)
 			if werr == nil {
 				werr = w.flush()
 			}
@@ -468,7 +474,7 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 }
 
 // appendChunk appends a solved chunk's rows to the record builder.
-func appendChunk(b *array.RecordBuilder, c *chunk, outs []engine.Output, rejected map[string]int) error {
+func appendChunk(b *array.RecordBuilder, c *chunk, params []engine.Param, outs []engine.Output, rejected map[string]int) error {
 	n := c.count
 	cases := b.Field(0).(*array.Int64Builder)
 	cases.Reserve(n)
@@ -476,8 +482,8 @@ func appendChunk(b *array.RecordBuilder, c *chunk, outs []engine.Output, rejecte
 		cases.UnsafeAppend(int64(c.start + k))
 	}
 	col := 1
-	for j := range c.in {
-		b.Field(col).(*array.Float64Builder).AppendValues(c.in[j][:n], nil)
+	for _, p := range params {
+		b.Field(col).(*array.Float64Builder).AppendValues(c.in[p][:n], nil)
 		col++
 	}
 	for j := range outs {

@@ -90,49 +90,7 @@ func TestRunEndToEnd(t *testing.T) {
 		t.Errorf("info.Cases = %d", info.Cases)
 	}
 	dir := filepath.Join(out, st.Name)
-	schema, cols, status := readCases(t, filepath.Join(dir, CasesFile))
-
-	outs := engine.Outputs(st.Report.PVI)
-	want := []string{engine.ColCase}
-	for p := engine.Param(0); p < engine.NumParams; p++ {
-		want = append(want, p.String())
-	}
-	for _, o := range outs {
-		want = append(want, o.Name)
-	}
-	want = append(want, engine.ColStatus)
-	var got []string
-	for _, f := range schema.Fields() {
-		got = append(got, f.Name)
-	}
-	if !slices.Equal(got, want) {
-		t.Fatalf("columns\n got %v\nwant %v", got, want)
-	}
-	if len(status) != n || len(cols[engine.ColCase]) != n {
-		t.Fatalf("rows: %d status, %d cases; want %d", len(status), len(cols[engine.ColCase]), n)
-	}
-	for i, c := range cols[engine.ColCase] {
-		if c != float64(i) {
-			t.Fatalf("case column at row %d = %v", i, c)
-		}
-	}
-	var s engine.Solver
-	var r engine.Result
-	for _, i := range []int{0, 1, 17, 999, 1000, 2500, n - 1} {
-		var p engine.Params
-		for q := engine.Param(0); q < engine.NumParams; q++ {
-			p[q] = cols[q.String()][i]
-		}
-		s.SolveCase(&p, st.Report.PVI, st.Report.CutLimit, &r)
-		for _, o := range outs {
-			if g, w := cols[o.Name][i], o.Get(&r); !same(g, w) {
-				t.Errorf("row %d %s = %v, engine gives %v", i, o.Name, g, w)
-			}
-		}
-		if status[i] != r.StatusText() {
-			t.Errorf("row %d status %q, engine %q", i, status[i], r.StatusText())
-		}
-	}
+	checkCases(t, st, dir, []int{0, 1, 17, 999, 1000, 2500, n - 1})
 	for _, name := range []string{RunFile} {
 		if _, err := os.Stat(filepath.Join(dir, name)); err != nil {
 			t.Errorf("missing %s: %v", name, err)
@@ -319,4 +277,57 @@ func TestRunRefusesConcurrentWriter(t *testing.T) {
 	if _, err := os.Stat(lock); !os.IsNotExist(err) {
 		t.Errorf("lock left behind after the run: %v", err)
 	}
+}
+
+// checkCases reads dir's cases.arrow back with the Arrow library, checks
+// its columns (case, the model's parameters, the model's outputs, status)
+// and row count, and solves the given rows again with the engine from the
+// parameter columns: every output and status must match exactly.
+func checkCases(t *testing.T, st *studies.Study, dir string, rows []int) (cols map[string][]float64, status []string) {
+	t.Helper()
+	n := st.Cases
+	schema, cols, status := readCases(t, filepath.Join(dir, CasesFile))
+	m := st.Model()
+	outs := m.Outputs(st.Report.PVI)
+	want := []string{engine.ColCase}
+	for _, p := range m.Params() {
+		want = append(want, p.String())
+	}
+	for _, o := range outs {
+		want = append(want, o.Name)
+	}
+	want = append(want, engine.ColStatus)
+	var got []string
+	for _, f := range schema.Fields() {
+		got = append(got, f.Name)
+	}
+	if !slices.Equal(got, want) {
+		t.Fatalf("columns\n got %v\nwant %v", got, want)
+	}
+	if len(status) != n || len(cols[engine.ColCase]) != n {
+		t.Fatalf("rows: %d status, %d cases; want %d", len(status), len(cols[engine.ColCase]), n)
+	}
+	for i, c := range cols[engine.ColCase] {
+		if c != float64(i) {
+			t.Fatalf("case column at row %d = %v", i, c)
+		}
+	}
+	s := engine.Solver{Model: m}
+	var r engine.Result
+	for _, i := range rows {
+		var p engine.Params
+		for _, q := range m.Params() {
+			p[q] = cols[q.String()][i]
+		}
+		s.SolveCase(&p, st.Report.PVI, st.Report.CutLimit, &r)
+		for _, o := range outs {
+			if g, w := cols[o.Name][i], o.Get(&r); !same(g, w) {
+				t.Errorf("row %d %s = %v, engine gives %v", i, o.Name, g, w)
+			}
+		}
+		if status[i] != r.StatusText() {
+			t.Errorf("row %d status %q, engine %q", i, status[i], r.StatusText())
+		}
+	}
+	return cols, status
 }

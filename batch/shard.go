@@ -275,7 +275,9 @@ type ShardManifest struct {
 	Workers    int            `json:"workers"`
 	Started    string         `json:"started"` // RFC 3339, UTC
 	Seconds    float64        `json:"solve_seconds"`
-	StudyText  string         `json:"study_text"` // the study file's bytes
+	StudyText  string         `json:"study_text"`           // the study file's bytes
+	TableText  string         `json:"table_text,omitempty"` // a table study's measured curves, byte for byte
+	TableName  string         `json:"table_name,omitempty"` // the file they were read from
 
 	// The shard's rows [SobolFirst, SobolEnd) of the Sobol design, when
 	// the study asks for Sobol indices, and their file.
@@ -390,6 +392,7 @@ func RunShard(ctx context.Context, st *studies.Study, opt Options) (*ShardManife
 		Shard: sh.K, Shards: sh.N, Cases: st.Cases, First: lo, End: hi, Rows: hi - lo, BatchRows: rows,
 		RejectedBy: rejected, File: sh.CasesFile(), Bytes: size, SHA256: sum, Workers: r.workers,
 		Started: start.UTC().Format(time.RFC3339), Seconds: solved.Sub(start).Seconds(), StudyText: string(src),
+		TableText: string(st.Relperm.TableData), TableName: st.Relperm.TablePath,
 	}
 	for _, n := range rejected {
 		m.Rejected += n
@@ -510,10 +513,10 @@ func shardSource(st *studies.Study, src []byte) ([]byte, error) {
 		src = b
 	}
 	sum := sha256.Sum256(src)
-	if hex.EncodeToString(sum[:]) != st.Hash {
+	if hex.EncodeToString(sum[:]) != st.FileHash {
 		return nil, fmt.Errorf("%s changed since it was loaded (its SHA-256 is no longer the study's)", st.Source)
 	}
-	again, err := studies.Parse(st.Source, src)
+	again, err := studies.ParseWith(st.Source, src, textTables(st.Relperm.TablePath, string(st.Relperm.TableData)))
 	if err != nil {
 		return nil, fmt.Errorf("parsing %s again: %w", st.Source, err)
 	}

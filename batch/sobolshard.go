@@ -9,7 +9,6 @@ import (
 	"github.com/apache/arrow/go/v17/arrow/array"
 	"github.com/apache/arrow/go/v17/arrow/memory"
 
-	"github.com/sweepstat/sweepstat/engine"
 	"github.com/sweepstat/sweepstat/studies"
 	"github.com/sweepstat/sweepstat/summarize"
 )
@@ -58,7 +57,7 @@ func writeShardSobol(ctx context.Context, r *studyRun, in *summarize.Inputs, sh 
 	}
 	t := &Table{}
 	t.Add(sobolRunColumn, "", runs)
-	for j, o := range engine.Outputs(st.Report.PVI) {
+	for j, o := range st.Model().Outputs(st.Report.PVI) {
 		col := make([]float64, len(runs))
 		for k, run := range runs {
 			col[k] = f[j][run]
@@ -73,7 +72,7 @@ func writeShardSobol(ctx context.Context, r *studyRun, in *summarize.Inputs, sh 
 func readShardSobol(p *MergePlan, in *summarize.Inputs, mem memory.Allocator) ([][]float64, error) {
 	st := p.Study
 	n := st.Sensitivity.Sobol
-	outs := engine.Outputs(st.Report.PVI)
+	outs := st.Model().Outputs(st.Report.PVI)
 	f := summarize.NewSobolRuns(in, st.Report.PVI, n)
 	seen := make([]bool, n*(len(in.Leaders)+2))
 	for _, m := range p.Shards {

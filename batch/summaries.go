@@ -43,7 +43,7 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 	}
 	pvi, cut := st.Report.PVI, st.Report.CutLimit
 	var outputs []string
-	for _, o := range engine.Outputs(pvi) {
+	for _, o := range st.Model().Outputs(pvi) {
 		outputs = append(outputs, o.Name)
 	}
 	// The summaries ask for the outputs in order, then the checkpoint
@@ -53,7 +53,7 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 		plan = append(plan, engine.CheckpointColumn("recovery", x), engine.CheckpointColumn("cut", x))
 	}
 	column := newColumnSource(casesPath, mem, st.Cases, 0, plan).column
-	data := &reportData{Info: info, Study: st, Convention: st.Report.Percentiles, Keys: keyOutputs(pvi)}
+	data := &reportData{Info: info, Study: st, Convention: st.Report.Percentiles, Keys: keyOutputs(st)}
 	phase := func(name string, total int) func() {
 		if opt.Progress == nil {
 			return func() {}
@@ -147,12 +147,12 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 	return nil
 }
 
-// keyOutputs are the outputs the report shows rankings for: breakthrough,
-// recovery at the cut limit and recovery at each checkpoint.
-func keyOutputs(pvi []float64) map[string]bool {
-	keys := map[string]bool{engine.ColBreakthroughPVI: true, engine.ColRecoveryAtCutLimit: true}
-	for _, x := range pvi {
-		keys[engine.CheckpointColumn("recovery", x)] = true
+// keyOutputs are the outputs the report shows rankings for: those of
+// [keyOutputList].
+func keyOutputs(st *studies.Study) map[string]bool {
+	keys := map[string]bool{}
+	for _, name := range keyOutputList(st) {
+		keys[name] = true
 	}
 	return keys
 }

@@ -62,3 +62,68 @@ func Outputs(pvi []float64) []Output {
 		Output{ColMaxRecovery, "fraction", func(r *Result) float64 { return r.MaxRecovery }},
 	)
 }
+
+// Dimensional output columns, written when a study has a volumes block.
+const (
+	ColPoreVolume             = "pore_volume_m3"
+	ColBreakthroughDays       = "breakthrough_days"
+	ColProducedAtBreakthrough = "produced_volume_at_breakthrough_m3"
+	ColDaysAtCutLimit         = "days_at_cut_limit"
+	ColProducedAtCutLimit     = "produced_volume_at_cut_limit_m3"
+)
+
+// DaysColumn returns the name of the days_at_<X>pvi column: the day at
+// which checkpoint x is reached.
+func DaysColumn(x float64) string { return "days_at_" + PVIName(x) + "pvi" }
+
+// ProducedColumn returns the name of the produced-volume column at
+// checkpoint x in the given unit suffix ("m3" or "bbl"):
+// produced_volume_at_<X>pvi_m3.
+func ProducedColumn(x float64, unit string) string {
+	return "produced_volume_at_" + PVIName(x) + "pvi_" + unit
+}
+
+// Units of the dimensional columns: reservoir and surface cubic metres,
+// days and surface barrels.
+const (
+	UnitReservoirM3 = "m³ (reservoir)"
+	UnitSurfaceM3   = "m³ (surface)"
+	UnitDay         = "day"
+	UnitBarrel      = "bbl (surface)"
+)
+
+// Outputs returns the numeric output columns of the model's cases for
+// the PVI checkpoints pvi: those of the package-level [Outputs], then,
+// when the model has Volumes, the pore volume, the days and produced
+// surface volumes at breakthrough, at each checkpoint and at the cut
+// limit, and with FieldUnits the produced volumes again in barrels.
+func (m *Model) Outputs(pvi []float64) []Output {
+	out := Outputs(pvi)
+	if m == nil || m.Volumes == nil {
+		return out
+	}
+	out = append(out,
+		Output{ColPoreVolume, UnitReservoirM3, func(r *Result) float64 { return r.PoreVolume }},
+		Output{ColBreakthroughDays, UnitDay, func(r *Result) float64 { return r.BreakthroughDays }},
+		Output{ColProducedAtBreakthrough, UnitSurfaceM3, func(r *Result) float64 { return r.ProducedAtBreakthrough }},
+	)
+	for i, x := range pvi {
+		out = append(out,
+			Output{DaysColumn(x), UnitDay, func(r *Result) float64 { return r.DaysAt[i] }},
+			Output{ProducedColumn(x, "m3"), UnitSurfaceM3, func(r *Result) float64 { return r.ProducedAt[i] }},
+		)
+	}
+	out = append(out,
+		Output{ColDaysAtCutLimit, UnitDay, func(r *Result) float64 { return r.DaysAtCutLimit }},
+		Output{ColProducedAtCutLimit, UnitSurfaceM3, func(r *Result) float64 { return r.ProducedAtCutLimit }},
+	)
+	if !m.Volumes.FieldUnits {
+		return out
+	}
+	bbl := func(v float64) float64 { return v / Barrel }
+	out = append(out, Output{"produced_volume_at_breakthrough_bbl", UnitBarrel, func(r *Result) float64 { return bbl(r.ProducedAtBreakthrough) }})
+	for i, x := range pvi {
+		out = append(out, Output{ProducedColumn(x, "bbl"), UnitBarrel, func(r *Result) float64 { return bbl(r.ProducedAt[i]) }})
+	}
+	return append(out, Output{"produced_volume_at_cut_limit_bbl", UnitBarrel, func(r *Result) float64 { return bbl(r.ProducedAtCutLimit) }})
+}

@@ -27,7 +27,31 @@ const (
 	Rho2                         // phase-2 density, kg/m³
 	PermMD                       // absolute permeability, mD
 	VelocityMPerDay              // total Darcy flux, m/day
-	NumParams                    // number of parameters
+
+	// LET curve parameters (Lomeland, Ebeltoft & Thomas 2005), used by the
+	// LET model in place of N1 and N2.
+	LetL1 // phase-1 L
+	LetE1 // phase-1 E
+	LetT1 // phase-1 T
+	LetL2 // phase-2 L
+	LetE2 // phase-2 E
+	LetT2 // phase-2 T
+
+	// RockSample selects the measured curves of the tabulated model: the
+	// 1-based position of a rock sample in the study's table.
+	RockSample
+
+	// Dimensions and rates of the volumes block, used only when a study
+	// asks for outputs in days and surface volumes.
+	LengthM      // length of the flow path, m
+	AreaM2       // cross-section, m²
+	WidthM       // width, m (cross-section = width·thickness when no area is given)
+	ThicknessM   // thickness, m
+	Porosity     // porosity, fraction
+	B2           // formation volume factor of phase 2, reservoir m³ per surface m³
+	RateM3PerDay // injection rate of phase 1 at reservoir conditions, m³/day
+
+	NumParams // number of parameters
 )
 
 // paramNames holds the contract names of the parameters, indexed by Param.
@@ -46,6 +70,20 @@ var paramNames = [NumParams]string{
 	Rho2:            "rho2",
 	PermMD:          "perm_md",
 	VelocityMPerDay: "velocity_m_per_day",
+	LetL1:           "let_l1",
+	LetE1:           "let_e1",
+	LetT1:           "let_t1",
+	LetL2:           "let_l2",
+	LetE2:           "let_e2",
+	LetT2:           "let_t2",
+	RockSample:      "rock_sample",
+	LengthM:         "length_m",
+	AreaM2:          "area_m2",
+	WidthM:          "width_m",
+	ThicknessM:      "thickness_m",
+	Porosity:        "porosity",
+	B2:              "b2",
+	RateM3PerDay:    "rate_m3_per_day",
 }
 
 // String returns the parameter's name in study files and output columns.
@@ -60,10 +98,18 @@ func (p Param) String() string {
 // metadata; "fraction" and "-" mark dimensionless inputs.
 func (p Param) Unit() string {
 	switch p {
-	case S1Init, S1r, S2r, Kr1Max, Kr2Max:
+	case S1Init, S1r, S2r, Kr1Max, Kr2Max, Porosity:
 		return "fraction"
-	case N1, N2:
+	case N1, N2, LetL1, LetE1, LetT1, LetL2, LetE2, LetT2, RockSample:
 		return "-"
+	case LengthM, WidthM, ThicknessM:
+		return "m"
+	case AreaM2:
+		return "m²"
+	case B2:
+		return "rm³/sm³"
+	case RateM3PerDay:
+		return "m³/day"
 	case Mu1CP, Mu2CP:
 		return "mPa·s"
 	case DipDeg:
@@ -78,9 +124,10 @@ func (p Param) Unit() string {
 	return ""
 }
 
-// Required reports whether a study must give the parameter. Dip defaults
-// to zero; densities, permeability and velocity are needed only when the
-// dip is not zero (see [Params.Validate]).
+// Required reports whether a Corey study must give the parameter (see
+// [Model.Required] for the other models). Dip defaults to zero;
+// densities, permeability and velocity are needed only when the dip is
+// not zero (see [Params.Validate]).
 func (p Param) Required() bool {
 	return p <= Mu2CP
 }
@@ -105,9 +152,15 @@ type Params [NumParams]float64
 //
 //	s1_init 0, s1r 0, s2r 0, kr1_max 1, kr2_max 1, n1 2, n2 2,
 //	mu1_cp 1, mu2_cp 1, dip_deg 0, rho1 1000, rho2 800,
-//	perm_md 100, velocity_m_per_day 0.3
+//	perm_md 100, velocity_m_per_day 0.3,
+//
+// and for the other models LET curves with L = 2, E = 1, T = 1.5 for
+// both phases and the first rock sample of a table.
 func DefaultParams() Params {
 	var p Params
+	p[LetL1], p[LetE1], p[LetT1] = 2, 1, 1.5
+	p[LetL2], p[LetE2], p[LetT2] = 2, 1, 1.5
+	p[RockSample] = 1
 	p[Kr1Max], p[Kr2Max] = 1, 1
 	p[N1], p[N2] = 2, 2
 	p[Mu1CP], p[Mu2CP] = 1, 1
@@ -134,7 +187,7 @@ func (e *ValidityError) Error() string {
 // Unwrap returns [ErrInvalid].
 func (e *ValidityError) Unwrap() error { return ErrInvalid }
 
-// Validate checks the validity rules of a displacement case:
+// Validate checks the validity rules of a Corey displacement case:
 //
 //	all values finite; 0 ≤ s1r, 0 ≤ s2r, s1r + s2r < 1;
 //	0 ≤ s1_init < 1 − s2r;
@@ -145,12 +198,17 @@ func (e *ValidityError) Unwrap() error { return ErrInvalid }
 // Densities must be non-negative. It returns the first rule that fails as a
 // *[ValidityError], or nil. A valid set may still describe an initial state
 // that flows backwards; [Solve] reports that as a status, not an error.
-func (p *Params) Validate() error {
+// [Model.Validate] checks a case of any model.
+func (p *Params) Validate() error { return p.validate(nil) }
+
+func (p *Params) validate(m *Model) error {
 	bad := func(q Param, rule string) error {
 		return &ValidityError{Param: q, Rule: rule, Value: p[q]}
 	}
 	for q := Param(0); q < NumParams; q++ {
-		if math.IsNaN(p[q]) || math.IsInf(p[q], 0) {
+		// x − x is 0 for a finite x and NaN for NaN and ±Inf; a value the
+		// model does not read may be anything.
+		if x := p[q]; x-x != 0 && m.Uses(q) {
 			return bad(q, "a finite value")
 		}
 	}
@@ -169,10 +227,27 @@ func (p *Params) Validate() error {
 		return bad(Kr1Max, "0 < kr1_max ≤ 1")
 	case !(p[Kr2Max] > 0 && p[Kr2Max] <= 1):
 		return bad(Kr2Max, "0 < kr2_max ≤ 1")
-	case !(p[N1] > 0):
-		return bad(N1, "n1 > 0")
-	case !(p[N2] > 0):
-		return bad(N2, "n2 > 0")
+	}
+	switch m.family() {
+	case FamilyCorey:
+		switch {
+		case !(p[N1] > 0):
+			return bad(N1, "n1 > 0")
+		case !(p[N2] > 0):
+			return bad(N2, "n2 > 0")
+		}
+	case FamilyLET:
+		for _, q := range [...]Param{LetL1, LetE1, LetT1, LetL2, LetE2, LetT2} {
+			if !(p[q] > 0) {
+				return bad(q, q.String()+" > 0")
+			}
+		}
+	case FamilyTable:
+		if m.table(p) == nil {
+			return bad(RockSample, fmt.Sprintf("rock_sample a whole number from 1 to %d", len(m.Tables)))
+		}
+	}
+	switch {
 	case !(p[Mu1CP] > 0):
 		return bad(Mu1CP, "mu1_cp > 0")
 	case !(p[Mu2CP] > 0):
@@ -191,6 +266,30 @@ func (p *Params) Validate() error {
 		case !(p[VelocityMPerDay] > 0):
 			return bad(VelocityMPerDay, "velocity_m_per_day > 0 when dipping")
 		}
+	}
+	if m == nil || m.Volumes == nil {
+		return nil
+	}
+	v := m.Volumes
+	if v.AreaFromWidth {
+		switch {
+		case !(p[WidthM] > 0):
+			return bad(WidthM, "width_m > 0")
+		case !(p[ThicknessM] > 0):
+			return bad(ThicknessM, "thickness_m > 0")
+		}
+	}
+	switch {
+	case !(p[LengthM] > 0):
+		return bad(LengthM, "length_m > 0")
+	case !(p[AreaM2] > 0) || math.IsInf(p[AreaM2], 0):
+		return bad(AreaM2, "0 < area_m2 < ∞")
+	case !(p[Porosity] > 0 && p[Porosity] <= 1):
+		return bad(Porosity, "0 < porosity ≤ 1")
+	case !(p[B2] > 0):
+		return bad(B2, "b2 > 0")
+	case v.Schedule == nil && !(p[RateM3PerDay] > 0):
+		return bad(RateM3PerDay, "rate_m3_per_day > 0")
 	}
 	return nil
 }

@@ -49,7 +49,11 @@ func (s Status) String() string {
 // reused; its methods do not allocate.
 type Solution struct {
 	Flow   FracFlow
-	corey  Corey // the curves Flow.Rel points at, kept here so Solve does not allocate
+	// The curves Flow.Rel points at, one per family, kept here so that
+	// Solve does not allocate.
+	corey  Corey
+	let    LET
+	scaled ScaledTable
 	Params Params
 	Init   float64 // s1_init
 	Inlet  float64 // S_b

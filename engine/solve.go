@@ -9,14 +9,25 @@ import (
 // Solver is ready to use. It is not safe for concurrent use: give each
 // goroutine its own.
 type Solver struct {
+	// Model is the study-level model the cases belong to; nil is plain
+	// Corey with dimensionless outputs. Set it before the first Solve.
+	Model *Model
+
 	sc  scan
 	sol Solution
 }
 
-// Solve solves the case p into a new Solution. Invalid parameters give a
-// Solution with StatusInvalid and the *[ValidityError] as the error.
+// Solve solves the Corey case p into a new Solution. Invalid parameters
+// give a Solution with StatusInvalid and the *[ValidityError] as the
+// error. [SolveModel] solves a case of any model.
 func Solve(p Params) (*Solution, error) {
-	var s Solver
+	return SolveModel(nil, p)
+}
+
+// SolveModel solves the case p of model m into a new Solution, like
+// [Solve].
+func SolveModel(m *Model, p Params) (*Solution, error) {
+	s := Solver{Model: m}
 	sol := new(Solution)
 	err := s.Solve(&p, sol)
 	return sol, err
@@ -26,17 +37,22 @@ func Solve(p Params) (*Solution, error) {
 // validity error of p, if any; a counter-current initial state is no error
 // but sets sol.Status to StatusCounterCurrent. Solve does not allocate for
 // valid parameters.
+//
+// The parameters the model derives (see [Model.Resolve]) are resolved in
+// sol.Params; p itself is not changed.
 func (s *Solver) Solve(p *Params, sol *Solution) error {
 	sol.Params = *p
 	sol.n = 0
 	sol.Err = nil
-	if err := p.Validate(); err != nil {
+	m := s.Model
+	m.Resolve(&sol.Params)
+	p = &sol.Params
+	if err := p.validate(m); err != nil {
 		sol.Status = StatusInvalid
 		sol.Err = err
 		return err
 	}
-	sol.corey = coreyOf(p)
-	sol.Flow = FracFlow{Rel: &sol.corey, R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
+	sol.Flow = FracFlow{Rel: sol.curves(m), R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
 	sol.Init = p[S1Init]
 	if s1r := p[S1r]; sol.Init < s1r && s1r-sol.Init <= initSnap {
 		// Below s1r by less than double precision can resolve against the
@@ -78,6 +94,17 @@ type Result struct {
 	MaxRecovery            float64
 	RecoveryAt             []float64
 	CutAt                  []float64
+
+	// The dimensional outputs, filled only when the Solver's model has
+	// Volumes (NaN otherwise): pore volume in m³, times in days, produced
+	// phase-2 volumes at surface conditions in m³.
+	PoreVolume             float64
+	BreakthroughDays       float64
+	ProducedAtBreakthrough float64
+	DaysAt                 []float64
+	ProducedAt             []float64
+	DaysAtCutLimit         float64
+	ProducedAtCutLimit     float64
 }
 
 // StatusText returns the text of the status column: "ok", or the reason
@@ -103,6 +130,7 @@ func (s *Solver) SolveCase(p *Params, pvi []float64, cutLimit float64, r *Result
 	r.CutAt = resize(r.CutAt, len(pvi))
 	sol := &s.sol
 	err := s.Solve(p, sol)
+	defer s.volumes(pvi, r)
 	r.Status = sol.Status
 	r.Rule = ""
 	r.GravityNumber = math.NaN()

@@ -68,7 +68,8 @@ func TestSuggest(t *testing.T) {
 		{"dip_degrees", "dip_deg"},         // the known name is a prefix
 		{"s1_int", "s1_init"},
 		{"kr3_max", "kr1_max"},
-		{"porosity", ""},
+		{"porosity", "porosity"},
+		{"permeability", ""},
 		{"x", ""},
 	} {
 		if got := suggest(tc.in, names); got != tc.want {

@@ -102,23 +102,122 @@ func (ps *paramSet) uncertain() []engine.Param {
 	return out
 }
 
-func (p *parser) parameters(key, n *yaml.Node) *paramSet {
+// modelParams is what the parameter checks need to know of the study's
+// model before the parameters are read.
+type modelParams struct {
+	family  engine.Family
+	tables  []*engine.Table // the rock samples of a table study
+	samples int             // len(tables), or 0
+	volumes *yaml.Node      // the volumes section, nil if none
+	volKey  *yaml.Node
+
+	// Filled by parameters: the volumes section's own entries and
+	// whether it has a rate_schedule.
+	volEntries  []entry
+	hasSchedule bool
+}
+
+// allowedHere reports whether q may be given in the parameters section
+// (inParams) or the volumes section under model mp.
+func (mp *modelParams) allowed(q engine.Param, inParams bool) bool {
+	if isVolumeParam(q) {
+		return !inParams
+	}
+	if !inParams {
+		return false
+	}
+	m := engine.Model{Family: mp.family}
+	return m.Uses(q)
+}
+
+// notHere explains why parameter q may not be given where it is.
+func (mp *modelParams) notHere(q engine.Param, inParams bool) string {
+	switch {
+	case isVolumeParam(q) && inParams:
+		return fmt.Sprintf("%s belongs in the volumes section, with the other dimensions", q)
+	case !inParams:
+		return fmt.Sprintf("%s belongs in the parameters section; volumes takes %s, rate_schedule and field_units", q, strings.Join(volumeParamNames(), ", "))
+	}
+	switch q {
+	case engine.N1, engine.N2:
+		return fmt.Sprintf("%s is a Corey exponent; this study's relperm model is %s", q, mp.family)
+	case engine.RockSample:
+		return fmt.Sprintf("rock_sample picks a sample of a measured table; this study's relperm model is %s", mp.family)
+	}
+	return fmt.Sprintf("%s is a LET parameter; this study's relperm model is %s (write relperm: {model: let})", q, mp.family)
+}
+
+func volumeParamNames() []string {
+	var names []string
+	for _, q := range volumeParams {
+		names = append(names, q.String())
+	}
+	return names
+}
+
+// required reports whether the study must give q (the volumes rules that
+// depend on which keys are given are checked in volumeNeeds).
+func (mp *modelParams) required(q engine.Param) bool {
+	if isVolumeParam(q) {
+		return false
+	}
+	m := engine.Model{Family: mp.family, Tables: make([]*engine.Table, mp.samples)}
+	return m.Required(q)
+}
+
+func (p *parser) parameters(key, n *yaml.Node, mp *modelParams) *paramSet {
 	ps := &paramSet{}
 	before := len(p.errs)
 	defer func() { ps.complete = len(p.errs) == before }()
 	es, ok := p.mapping(n, "parameters", "a mapping of parameter names to "+specFormMsg)
 	if !ok {
 		for q := engine.Param(0); q < engine.NumParams; q++ {
-			ps.missing[q] = q.Required()
+			ps.missing[q] = mp.required(q)
 		}
 		return ps
 	}
 	names := paramNames()
-	m := p.known(es, "parameters", names, "parameter")
+	var here []string // the names the parameters section takes
+	for q := engine.Param(0); q < engine.NumParams; q++ {
+		if mp.allowed(q, true) {
+			here = append(here, q.String())
+		}
+	}
+	// A parameter of another model or section gets its own message.
+	keep := es[:0:0]
+	for _, e := range es {
+		if q, isParam := engine.ParamByName(e.name); isParam && !mp.allowed(q, true) {
+			p.errorf(e.key, "parameters."+e.name, ErrUnknownKey, "%s", mp.notHere(q, true))
+			continue
+		}
+		keep = append(keep, e)
+	}
+	m := p.known(keep, "parameters", here, "parameter")
+	if mp.volumes != nil {
+		vs, ok := p.mapping(mp.volumes, "volumes", "a mapping of "+strings.Join(append(volumeParamNames(), volumeKeys...), ", "))
+		if ok {
+			var vkeep []entry
+			for _, e := range vs {
+				if q, isParam := engine.ParamByName(e.name); isParam && !mp.allowed(q, false) {
+					p.errorf(e.key, "volumes."+e.name, ErrUnknownKey, "%s", mp.notHere(q, false))
+					continue
+				}
+				vkeep = append(vkeep, e)
+			}
+			for name, e := range p.known(vkeep, "volumes", append(volumeParamNames(), volumeKeys...), "key") {
+				if _, isParam := engine.ParamByName(name); isParam {
+					m[name] = e
+					continue
+				}
+				mp.volEntries = append(mp.volEntries, e)
+				mp.hasSchedule = mp.hasSchedule || name == "rate_schedule"
+			}
+		}
+	}
 	for q := engine.Param(0); q < engine.NumParams; q++ {
 		e, given := m[q.String()]
 		if !given {
-			if q.Required() {
+			if mp.required(q) {
 				ps.missing[q] = true
 				hint := ""
 				for _, u := range es {
@@ -127,18 +226,66 @@ func (p *parser) parameters(key, n *yaml.Node) *paramSet {
 						break
 					}
 				}
-				p.errorf(key, "parameters."+q.String(), ErrMissing, "required parameter %s is missing%s", q, hint)
+				p.errorf(key, paramPath(q), ErrMissing, "required parameter %s is missing%s", q, hint)
 			}
 			continue
 		}
-		par, ok := p.param(q, e, "parameters."+q.String())
+		par, ok := p.param(q, e, paramPath(q))
 		ps.given[q] = par
 		ps.ok[q] = ok
 	}
 	p.resolveSameAs(ps)
-	p.dipNeeds(ps)
-	p.validity(ps)
+	p.dipNeeds(ps, mp)
+	p.volumeNeeds(ps, mp)
+	if mp.family == engine.FamilyTable && mp.samples > 0 {
+		p.rockSampleRule(ps, mp.samples)
+	}
+	p.validity(ps, mp)
 	return ps
+}
+
+// volumeNeeds requires the dimensions when the study has a volumes
+// section: length_m, porosity, b2, the cross-section (area_m2, or width_m
+// and thickness_m, not both) and the rate (rate_m3_per_day, or a
+// rate_schedule, not both).
+func (p *parser) volumeNeeds(ps *paramSet, mp *modelParams) {
+	if mp.volumes == nil {
+		return
+	}
+	at := mp.volKey
+	need := func(q engine.Param, why string) {
+		if ps.given[q] == nil {
+			ps.missing[q] = true
+			p.errorf(at, paramPath(q), ErrMissing, "%s is required%s", q, why)
+		}
+	}
+	need(engine.LengthM, " (the length of the flow path)")
+	need(engine.Porosity, "")
+	need(engine.B2, " (phase 2's formation volume factor, reservoir m³ per surface m³; 1 for no shrinkage)")
+	area, w, t := ps.given[engine.AreaM2], ps.given[engine.WidthM], ps.given[engine.ThicknessM]
+	switch {
+	case area != nil && (w != nil || t != nil):
+		other := w
+		if other == nil {
+			other = t
+		}
+		p.errAt(other.Pos, paramPath(other.Param), ErrUnknownKey, "give the cross-section as area_m2 or as width_m and thickness_m, not both")
+	case area == nil && w == nil && t == nil:
+		ps.missing[engine.AreaM2] = true
+		p.errorf(at, paramPath(engine.AreaM2), ErrMissing, "the cross-section is required: area_m2, or width_m and thickness_m")
+	case area == nil:
+		need(engine.WidthM, " with thickness_m (or give area_m2)")
+		need(engine.ThicknessM, " with width_m (or give area_m2)")
+	}
+	hasSchedule := mp.hasSchedule
+	rate := ps.given[engine.RateM3PerDay]
+	switch {
+	case rate != nil && hasSchedule:
+		p.errAt(rate.Pos, paramPath(engine.RateM3PerDay), ErrUnknownKey, "give rate_m3_per_day or rate_schedule, not both")
+	case rate == nil && !hasSchedule:
+		ps.missing[engine.RateM3PerDay] = true
+		p.errorf(at, paramPath(engine.RateM3PerDay), ErrMissing, "the injection rate is required: rate_m3_per_day, or rate_schedule: [[from_day, m3_per_day], …]")
+	}
 }
 
 // param decodes one parameter's value.
@@ -356,7 +503,7 @@ func (p *parser) resolveSameAs(ps *paramSet) {
 			ps.root[q], ps.resolved[q] = q, true
 			continue
 		}
-		path := "parameters." + par.Name + ".same_as"
+		path := paramPath(par.Param) + ".same_as"
 		at := par.FieldPos("same_as")
 		leader, known := engine.ParamByName(par.Spec.SameAs)
 		switch {
@@ -422,12 +569,15 @@ func (p *parser) reportCycle(ps *paramSet, cycle []engine.Param) {
 	}
 	names = append(names, names[0])
 	par := ps.given[cycle[first]]
-	p.errAt(par.FieldPos("same_as"), "parameters."+par.Name+".same_as", ErrCycle, "same_as cycle: %s", strings.Join(names, " → "))
+	p.errAt(par.FieldPos("same_as"), paramPath(par.Param)+".same_as", ErrCycle, "same_as cycle: %s", strings.Join(names, " → "))
 }
 
 // dipNeeds requires rho1, rho2, perm_md and velocity_m_per_day when the
 // dip is given and not fixed at zero.
-func (p *parser) dipNeeds(ps *paramSet) {
+//
+// With a volumes section and a constant rate, velocity_m_per_day may be
+// left out: it is then the rate over the cross-section.
+func (p *parser) dipNeeds(ps *paramSet, mp *modelParams) {
 	dip := ps.given[engine.DipDeg]
 	if dip == nil {
 		return
@@ -448,9 +598,12 @@ func (p *parser) dipNeeds(ps *paramSet) {
 		why = "dip_deg is uncertain"
 	}
 	for _, q := range []engine.Param{engine.Rho1, engine.Rho2, engine.PermMD, engine.VelocityMPerDay} {
+		if q == engine.VelocityMPerDay && mp.volumes != nil && !mp.hasSchedule {
+			continue
+		}
 		if ps.given[q] == nil {
 			ps.missing[q] = true
-			p.errAt(dip.Pos, "parameters."+q.String(), ErrMissing, "%s is required because %s (gravity needs rho1, rho2, perm_md and velocity_m_per_day)", q, why)
+			p.errAt(dip.Pos, paramPath(q), ErrMissing, "%s is required because %s (gravity needs rho1, rho2, perm_md and velocity_m_per_day)", q, why)
 		}
 	}
 }
@@ -566,7 +719,7 @@ func (s support) atLeast(name string) string {
 // validity applies the DESIGN §2 validity rules (engine.Params.Validate)
 // to what the study can give: an error when no case could ever satisfy a
 // rule. The rule texts are the engine's.
-func (p *parser) validity(ps *paramSet) {
+func (p *parser) validity(ps *paramSet, mp *modelParams) {
 	before := len(p.errs)
 	var sup [engine.NumParams]support
 	var have [engine.NumParams]bool
@@ -581,7 +734,7 @@ func (p *parser) validity(ps *paramSet) {
 		if ps.given[q] == nil {
 			return // a default value: cannot happen for the rules below
 		}
-		p.errAt(ps.given[q].ValuePos, "parameters."+q.String(), ErrValue, format, args...)
+		p.errAt(ps.given[q].ValuePos, paramPath(q), ErrValue, format, args...)
 	}
 	inf := math.Inf(1)
 	singles := []struct {
@@ -601,6 +754,19 @@ func (p *parser) validity(ps *paramSet) {
 		{engine.DipDeg, bound{-90, 90, false, false}, "|dip_deg| ≤ 90"},
 		{engine.Rho1, bound{0, inf, false, true}, "rho1 ≥ 0"},
 		{engine.Rho2, bound{0, inf, false, true}, "rho2 ≥ 0"},
+		{engine.LetL1, bound{0, inf, true, true}, "let_l1 > 0"},
+		{engine.LetE1, bound{0, inf, true, true}, "let_e1 > 0"},
+		{engine.LetT1, bound{0, inf, true, true}, "let_t1 > 0"},
+		{engine.LetL2, bound{0, inf, true, true}, "let_l2 > 0"},
+		{engine.LetE2, bound{0, inf, true, true}, "let_e2 > 0"},
+		{engine.LetT2, bound{0, inf, true, true}, "let_t2 > 0"},
+		{engine.LengthM, bound{0, inf, true, true}, "length_m > 0"},
+		{engine.AreaM2, bound{0, inf, true, true}, "0 < area_m2 < ∞"},
+		{engine.WidthM, bound{0, inf, true, true}, "width_m > 0"},
+		{engine.ThicknessM, bound{0, inf, true, true}, "thickness_m > 0"},
+		{engine.Porosity, bound{0, 1, true, false}, "0 < porosity ≤ 1"},
+		{engine.B2, bound{0, inf, true, true}, "b2 > 0"},
+		{engine.RateM3PerDay, bound{0, inf, true, true}, "rate_m3_per_day > 0"},
 	}
 	for _, r := range singles {
 		q := r.q
@@ -670,8 +836,8 @@ func (p *parser) validity(ps *paramSet) {
 			}
 		}
 	}
-	if len(p.errs) > before {
-		return
+	if len(p.errs) > before || mp.family == engine.FamilyTable && mp.samples == 0 {
+		return // (a table that could not be read has its own error)
 	}
 	// When every parameter is fixed the engine's own check is exact: run it
 	// too, so that a rule added to the engine is never missed here.
@@ -683,15 +849,17 @@ func (p *parser) validity(ps *paramSet) {
 		}
 		params[q] = v
 	}
-	if err := params.Validate(); err != nil {
+	model := mp.model(ps, nil)
+	model.Resolve(&params)
+	if err := model.Validate(&params); err != nil {
 		q := engine.S1Init
 		if ve, ok := err.(*engine.ValidityError); ok {
 			q = ve.Param
 		}
 		if ps.given[q] != nil {
-			p.errAt(ps.given[q].ValuePos, "parameters."+q.String(), ErrValue, "%s", err.Error())
+			p.errAt(ps.given[q].ValuePos, paramPath(q), ErrValue, "%s", err.Error())
 		} else {
-			p.errAt(Pos{}, "parameters."+q.String(), ErrValue, "%s", err.Error())
+			p.errAt(Pos{}, paramPath(q), ErrValue, "%s", err.Error())
 		}
 	}
 }

@@ -69,22 +69,38 @@ func readError(path string, err error) error {
 // correlation matrix is positive definite is left to the sampler; see
 // [Study.CorrelationError].
 func Parse(filename string, data []byte) (*Study, error) {
-	p := &parser{file: filename}
+	return ParseWith(filename, data, ParseOptions{})
+}
+
+// ParseWith is [Parse] with options: where the measured-curve table a
+// study names is read from.
+func ParseWith(filename string, data []byte, opts ParseOptions) (*Study, error) {
+	p := &parser{file: filename, readTable: opts.ReadTable}
 	s := p.parse(data)
 	if len(p.errs) > 0 {
 		return nil, p.finish()
 	}
 	sum := sha256.Sum256(data)
 	s.Source = filename
-	s.Hash = hex.EncodeToString(sum[:])
+	s.FileHash = hex.EncodeToString(sum[:])
+	s.Hash = s.FileHash
+	if s.Relperm.TableData != nil {
+		// The table decides the results as much as the study file does.
+		h := sha256.New()
+		h.Write(data)
+		h.Write([]byte("\x00relperm.table\x00"))
+		h.Write(s.Relperm.TableData)
+		s.Hash = hex.EncodeToString(h.Sum(nil))
+	}
 	return s, nil
 }
 
 // parser collects the errors of one Parse call.
 type parser struct {
-	file    string
-	errs    ErrorList
-	dropped int // errors beyond collectErrors
+	file      string
+	readTable TableReader // nil: relative to file
+	errs      ErrorList
+	dropped   int // errors beyond collectErrors
 }
 
 func posOf(n *yaml.Node) Pos {
@@ -571,7 +587,7 @@ func (p *parser) seed(n *yaml.Node, path string) (uint64, bool) {
 
 // Top-level, phases, report, tornado and sensitivity keys.
 var (
-	topKeys         = []string{"name", "phases", "cases", "seed", "sampling", "parameters", "correlations", "report", "tornado", "sensitivity"}
+	topKeys         = []string{"name", "phases", "cases", "seed", "sampling", "relperm", "parameters", "volumes", "correlations", "report", "tornado", "sensitivity"}
 	phaseKeys       = []string{"injected", "displaced"}
 	reportKeys      = []string{"pvi", "cut_limit", "percentiles"}
 	tornadoKeys     = []string{"low", "high"}
@@ -622,12 +638,23 @@ func (p *parser) study(root *yaml.Node) *Study {
 			s.Sampling = v
 		}
 	}
+	if e, ok := top["relperm"]; ok && !isNull(e.val) {
+		p.relperm(e.val, &s.Relperm)
+	}
+	mp := &modelParams{family: s.Relperm.Model, tables: s.Relperm.Samples, samples: len(s.Relperm.Samples)}
+	if e, ok := top["volumes"]; ok && !isNull(e.val) {
+		mp.volumes, mp.volKey = e.val, e.key
+	}
 	var ps *paramSet
 	if e, ok := top["parameters"]; ok {
 		s.parametersPos = posOf(e.key)
-		ps = p.parameters(e.key, e.val)
+		ps = p.parameters(e.key, e.val, mp)
 		s.Parameters = ps.list()
 	}
+	if mp.volumes != nil {
+		p.volumes(mp, &s.Volumes)
+	}
+	s.model = mp.model(ps, &s.Volumes)
 	if e, ok := top["correlations"]; ok {
 		s.correlationsPos = posOf(e.key)
 		if !isNull(e.val) {

@@ -10,14 +10,7 @@ import (
 // before the spot the error must point at (for YAML syntax errors, on the
 // line it must name: the parser gives no column). The message must
 // contain frag; path and cause must match exactly.
-var badCases = []struct {
-	name     string
-	src      string
-	cause    error
-	path     string
-	frag     string
-	lineOnly bool
-}{
+var badCases = []badCase{
 	// File level.
 	{"empty file", "§", ErrMissing, "", "empty study file", false},
 	{"only comments", "§# nothing here\n# at all\n", ErrMissing, "", "empty study file", false},
@@ -161,10 +154,23 @@ var badCases = []struct {
 	{"empty phase label", baseStudy + "phases: {injected: §\"  \"}\n", ErrValue, "phases.injected", "must not be empty", false},
 }
 
-func TestParseBad(t *testing.T) {
+// badCase is one entry of a table of bad studies.
+type badCase struct {
+	name     string
+	src      string
+	cause    error
+	path     string
+	frag     string
+	lineOnly bool
+}
+
+func TestParseBad(t *testing.T) { runBadCases(t, badCases) }
+
+// runBadCases parses each case and requires its marked error.
+func runBadCases(t *testing.T, cases []badCase) {
 	t.Parallel()
 	seen := map[string]bool{}
-	for _, tc := range badCases {
+	for _, tc := range cases {
 		if seen[tc.name] {
 			t.Fatalf("duplicate case name %q", tc.name)
 		}

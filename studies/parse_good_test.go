@@ -56,7 +56,11 @@ func TestParseDefaults(t *testing.T) {
 		Tornado:  Tornado{Low: 0.1, High: 0.9},
 	}
 	got := *s
-	got.Parameters, got.Source, got.Hash, got.parametersPos = nil, "", "", Pos{}
+	got.Parameters, got.Source, got.Hash, got.FileHash, got.parametersPos = nil, "", "", "", Pos{}
+	if m := got.Model(); m == nil || m.Family != engine.FamilyCorey || m.Volumes != nil {
+		t.Errorf("Model() = %+v, want plain Corey", m)
+	}
+	got.model = nil
 	if !reflect.DeepEqual(got, want) {
 		t.Errorf("defaults\n got %+v\nwant %+v", got, want)
 	}
@@ -66,7 +70,7 @@ func TestParseDefaults(t *testing.T) {
 	if len(s.Parameters) != 9 {
 		t.Errorf("%d parameters, want 9", len(s.Parameters))
 	}
-	for p := engine.DipDeg; p < engine.NumParams; p++ {
+	for p := engine.DipDeg; p <= engine.VelocityMPerDay; p++ {
 		if v, fixed := s.Fixed(p); !fixed || v != 0 {
 			t.Errorf("Fixed(%v) = %g, %v; want the default 0, true", p, v, fixed)
 		}
@@ -116,8 +120,8 @@ sensitivity: {sobol: 0}     # base sample size for Sobol indices, 0 = off
 	if s.Phases != (Phases{"water", "oil"}) {
 		t.Errorf("phases %+v", s.Phases)
 	}
-	if len(s.Parameters) != int(engine.NumParams) {
-		t.Fatalf("%d parameters, want all %d", len(s.Parameters), engine.NumParams)
+	if len(s.Parameters) != int(engine.VelocityMPerDay)+1 {
+		t.Fatalf("%d parameters, want all %d", len(s.Parameters), engine.VelocityMPerDay+1)
 	}
 	s2r, _ := s.Lookup(engine.S2r)
 	if want := (sampler.Spec{Name: "s2r", Kind: sampler.Triangular, Min: 0.18, Mode: 0.25, Max: 0.35, HasMin: true, HasMax: true}); !reflect.DeepEqual(s2r.Spec, want) {
@@ -199,7 +203,7 @@ func TestSpecs(t *testing.T) {
 	if p, _ := s.Lookup(engine.S1r); p.Spec.SameAs != "s1_init" {
 		t.Errorf("Parameter s1r keeps same_as %q, want s1_init as written", p.Spec.SameAs)
 	}
-	for p := engine.DipDeg; p < engine.NumParams; p++ {
+	for p := engine.DipDeg; p <= engine.VelocityMPerDay; p++ {
 		if want := (sampler.Spec{Name: p.String(), Kind: sampler.Fixed}); !reflect.DeepEqual(specs[p], want) {
 			t.Errorf("absent %v: spec %+v, want %+v", p, specs[p], want)
 		}
@@ -438,7 +442,7 @@ func TestValidityAgreesWithEngine(t *testing.T) {
 		var params engine.Params
 		var b strings.Builder
 		b.WriteString("name: agree\ncases: 1\nparameters:\n")
-		for p := engine.Param(0); p < engine.NumParams; p++ {
+		for p := engine.Param(0); p <= engine.VelocityMPerDay; p++ {
 			// Mostly a typical valid value, so that one or two rules are
 			// at stake in each draw.
 			params[p] = typical[p]
@@ -518,7 +522,7 @@ func TestImpossibleRangesNeverValid(t *testing.T) {
 		var lo, hi [engine.NumParams]float64
 		var b strings.Builder
 		b.WriteString("name: ranges\ncases: 1\nparameters:\n")
-		for p := engine.Param(0); p < engine.NumParams; p++ {
+		for p := engine.Param(0); p <= engine.VelocityMPerDay; p++ {
 			if rng.Float64() > 0.2 {
 				// A typical valid range, so that one or two rules are at
 				// stake in each draw.

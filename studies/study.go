@@ -80,12 +80,26 @@ type Study struct {
 	// k is Correlations[k] (see [Study.CorrelationError]).
 	Correlations []Correlation
 
+	// Relperm is the relperm section: the relative-permeability model
+	// and, for measured curves, the table read.
+	Relperm Relperm
+	// Volumes holds the volumes section's own keys; the dimensions are
+	// among Parameters.
+	Volumes VolumeSettings
+
 	Report      Report
 	Tornado     Tornado
 	Sensitivity Sensitivity
 
 	Source string // the file name given to Parse or Load
-	Hash   string // SHA-256 of the file's bytes, lower-case hex (for run.json)
+	// Hash identifies the study's inputs (run.json's study_hash): the
+	// SHA-256 of the file's bytes, or for a table study of the file's
+	// bytes, a separator and the table's bytes; lower-case hex.
+	Hash string
+	// FileHash is the SHA-256 of the study file's bytes alone.
+	FileHash string
+
+	model *engine.Model
 
 	correlationsPos Pos // position of the correlations key
 	parametersPos   Pos // position of the parameters key
@@ -186,10 +200,17 @@ func (s *Study) Lookup(p engine.Param) (*Parameter, bool) {
 }
 
 // Default returns the value a parameter takes when a study leaves it out:
-// 0 for every parameter. Only dip_deg and, while the dip is zero, rho1,
+// 1 for rock_sample (the first sample of a table), 0 for every other
+// parameter (a parameter its model does not read stays 0, and is not a
+// column of cases.arrow). Of the parameters a Corey study reads, only dip_deg and, while the dip is zero, rho1,
 // rho2, perm_md and velocity_m_per_day may be left out; with no dip those
 // four do not enter the solution, and 0 is what cases.arrow shows for them.
-func Default(p engine.Param) float64 { return 0 }
+func Default(p engine.Param) float64 {
+	if p == engine.RockSample {
+		return 1
+	}
+	return 0
+}
 
 // root follows same_as links from p to the parameter that is not a
 // follower. It returns false for a parameter the study does not give or a
@@ -364,7 +385,7 @@ func (s *Study) CorrelationError(k int, cause error) *Error {
 // "<field>: ", which the path already says.
 func (s *Study) ParameterError(p engine.Param, field string, cause error) *Error {
 	name := p.String()
-	path := "parameters." + name
+	path := paramPath(p)
 	prefixes := []string{path, name}
 	if field != "" {
 		path += "." + field

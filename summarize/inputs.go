@@ -30,6 +30,9 @@ type Inputs struct {
 	// their own, in engine.Param order. Fixed parameters and same_as
 	// followers are not in it.
 	Leaders []Leader
+	// Model is the study's engine model the cases are solved under; nil
+	// is plain Corey.
+	Model *engine.Model
 }
 
 // Leader is one uncertain input of [Inputs]: a parameter with a
@@ -75,7 +78,7 @@ func NewInputs(st *studies.Study, d *sampler.Design) (*Inputs, error) {
 		}
 	}
 	specs := st.Specs()
-	in := &Inputs{}
+	in := &Inputs{Model: st.Model()}
 	leaderOf := make(map[engine.Param]int) // leader parameter → index in in.Leaders
 	uncertain := make([]bool, engine.NumParams)
 	for _, p := range st.Uncertain() {
@@ -129,7 +132,7 @@ func (in *Inputs) Names() []string {
 // whether the base case is valid (a tornado's OutputBase is NaN when it is
 // not), and StatusText why.
 func (in *Inputs) BaseResult(pvi []float64, cutLimit float64) engine.Result {
-	var s engine.Solver
+	s := engine.Solver{Model: in.Model}
 	var r engine.Result
 	p := in.Base
 	s.SolveCase(&p, pvi, cutLimit, &r)

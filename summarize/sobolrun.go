@@ -50,7 +50,7 @@ const sobolChunk = 256
 // base sample size n over the d = len(in.Leaders) leaders, n·(d+2) cases
 // solved with the engine at the PVI checkpoints pvi and the cut limit
 // cutLimit, and [SobolIndices] for every output column of
-// engine.Outputs(pvi). It returns one [SobolRow] per output (engine order)
+// in.Model.Outputs(pvi). It returns one [SobolRow] per output (engine order)
 // and leader (in.Leaders order), and nil without leaders.
 //
 // Design. The rows of the matrices A and B are independent draws: row r of
@@ -78,7 +78,7 @@ const sobolChunk = 256
 // with itself. Sobol stops promptly when ctx is cancelled and returns its
 // error, wrapped.
 //
-// Memory: the outputs of all runs, 8·n·(d+2)·len(engine.Outputs(pvi))
+// Memory: the outputs of all runs, 8·n·(d+2)·len(in.Model.Outputs(pvi))
 // bytes (with five checkpoints, so 18 outputs, 12 leaders and n = 10⁵: 202 MB), plus the
 // bootstrap scratch of [SobolIndices] per worker.
 //
@@ -106,7 +106,7 @@ func Sobol(ctx context.Context, in *Inputs, pvi []float64, cutLimit float64, n i
 // solved.
 func NewSobolRuns(in *Inputs, pvi []float64, n int) [][]float64 {
 	runs := n * (len(in.Leaders) + 2)
-	f := make([][]float64, len(engine.Outputs(pvi)))
+	f := make([][]float64, len(in.Model.Outputs(pvi)))
 	for j := range f {
 		f[j] = make([]float64, runs)
 		for k := range f[j] {
@@ -135,12 +135,12 @@ func SobolSolve(ctx context.Context, in *Inputs, pvi []float64, cutLimit float64
 		workers = runtime.GOMAXPROCS(0)
 	}
 	plan := SobolPlan{N: n, D: d}
-	outs := engine.Outputs(pvi)
+	outs := in.Model.Outputs(pvi)
 
 	// Tasks of whole rows, each solving a row's d+2 runs.
 	pool := make(chan *sobolWorker, workers) // one Solver per running task
 	for range workers {
-		pool <- newSobolWorker(d)
+		pool <- newSobolWorker(d, in.Model)
 	}
 	var mu sync.Mutex
 	done := 0
@@ -190,7 +190,7 @@ func SobolReduce(ctx context.Context, in *Inputs, pvi []float64, n int, seed uin
 		workers = runtime.GOMAXPROCS(0)
 	}
 	plan := SobolPlan{N: n, D: d}
-	outs := engine.Outputs(pvi)
+	outs := in.Model.Outputs(pvi)
 	if len(f) != len(outs) {
 		return nil, fmt.Errorf("sobol study: %d output columns of runs, want %d", len(f), len(outs))
 	}
@@ -237,8 +237,8 @@ type sobolWorker struct {
 	a, b, x []float64 // leader values of row r of A and B, and of one run
 }
 
-func newSobolWorker(d int) *sobolWorker {
-	return &sobolWorker{a: make([]float64, d), b: make([]float64, d), x: make([]float64, d)}
+func newSobolWorker(d int, m *engine.Model) *sobolWorker {
+	return &sobolWorker{s: engine.Solver{Model: m}, a: make([]float64, d), b: make([]float64, d), x: make([]float64, d)}
 }
 
 // solveRow solves the d+2 runs of row r (A, B and every A_B^i) and stores

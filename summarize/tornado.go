@@ -33,7 +33,7 @@ type TornadoRow struct {
 // its high quantile, every other parameter staying at in.Base, solves each
 // case with the engine at the PVI checkpoints pvi and the cut limit
 // cutLimit, and returns one [TornadoRow] per output column of
-// engine.Outputs(pvi) and leader (DESIGN §6). Fixed parameters and
+// in.Model.Outputs(pvi) and leader (DESIGN §6). Fixed parameters and
 // followers get no row of their own.
 //
 // Rows are ordered by output, in engine.Outputs order, then by Rank: the
@@ -49,10 +49,10 @@ func Tornado(in *Inputs, pvi []float64, cutLimit, low, high float64) []TornadoRo
 	if !(low > 0 && low < 1) || !(high > 0 && high < 1) {
 		panic("summarize: tornado quantile outside (0, 1)")
 	}
-	outs := engine.Outputs(pvi)
+	outs := in.Model.Outputs(pvi)
 	nl := len(in.Leaders)
 
-	var s engine.Solver
+	s := engine.Solver{Model: in.Model}
 	var r engine.Result
 	solve := func(p engine.Params, dst []float64) {
 		s.SolveCase(&p, pvi, cutLimit, &r)

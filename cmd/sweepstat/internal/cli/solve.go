@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"os"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -23,6 +24,8 @@ type SolveOptions struct {
 	PVI      []float64 // checkpoints, pore volumes injected
 	CutLimit float64
 	JSON     bool
+	Relperm  string // corey, let or table
+	Table    string // the CSV file of measured curves, for table
 }
 
 // NewCmdSolve builds `sweepstat solve`. With a nil runF it runs
@@ -41,12 +44,19 @@ value that is not a number, or a combination that breaks a validity rule is
 an error (exit 2). --json prints one JSON object instead of tables, with
 null for values that are not finite.
 
+--relperm let uses the LET curves (let_l1 … let_t2 in place of n1 and n2);
+--table FILE.csv the measured curves of FILE (columns s, kr1, kr2 and
+optionally sample), rock_sample picking the sample, re-scaled to the s1r,
+s2r, kr1_max and kr2_max given with --set and otherwise at the sample's own.
+
 Parameters (name, default, unit):
 ` + paramHelp(),
 		Example: `  sweepstat solve
   sweepstat solve --set mu2_cp=5 --set n1=3 --set s2r=0.2
   sweepstat solve --set dip_deg=10 --set rho1=1040 --set rho2=860 --pvi 0.5,1,2
-  sweepstat solve --set mu1_cp=0.5 --json`,
+  sweepstat solve --set mu1_cp=0.5 --json
+  sweepstat solve --relperm let --set let_l1=2.5 --set let_t1=1.2
+  sweepstat solve --table core-curves.csv --set rock_sample=2`,
 		Args: usageArgs(cobra.NoArgs),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if runF != nil {
@@ -61,6 +71,8 @@ Parameters (name, default, unit):
 	fl.Var(&floatList{p: &opts.PVI}, "pvi", "checkpoints in pore volumes injected, increasing")
 	fl.Float64Var(&opts.CutLimit, "cut-limit", studies.DefaultCutLimit, "outlet phase-1 cut for pvi_at_cut_limit, in (0, 1]")
 	fl.BoolVar(&opts.JSON, "json", false, "print a JSON object")
+	fl.StringVar(&opts.Relperm, "relperm", "corey", "relative-permeability model: corey, let or table")
+	fl.StringVar(&opts.Table, "table", "", "CSV `FILE` of measured curves (implies --relperm table)")
 	return cmd
 }
 
@@ -70,6 +82,9 @@ func paramHelp() string {
 	tw := tabwriter.NewWriter(&b, 0, 4, 2, ' ', 0)
 	def := engine.DefaultParams()
 	for p := engine.Param(0); p < engine.NumParams; p++ {
+		if p >= engine.LengthM {
+			break // the dimensions belong to a study's volumes section
+		}
 		fmt.Fprintf(tw, "  %s\t%s\t%s\n", p, num(def[p]), p.Unit())
 	}
 	tw.Flush()
@@ -140,33 +155,81 @@ func SolveRun(opts *SolveOptions) error {
 	if err := checkCheckpoints(opts.PVI, opts.CutLimit); err != nil {
 		return err
 	}
-	if err := p.Validate(); err != nil {
+	m, err := solveModel(opts)
+	if err != nil {
+		return err
+	}
+	for _, kv := range opts.Set {
+		name, _, _ := strings.Cut(kv, "=")
+		q, _ := engine.ParamByName(strings.TrimSpace(name))
+		if !m.Uses(q) {
+			return badInput("--set %s: the %s model does not read %s", kv, m.Family, q)
+		}
+		for i, e := range [4]engine.Param{engine.S1r, engine.S2r, engine.Kr1Max, engine.Kr2Max} {
+			if q == e {
+				m.TableEnds[i] = false
+			}
+		}
+	}
+	m.Resolve(&p)
+	if err := m.Validate(&p); err != nil {
 		return fmt.Errorf("invalid parameters: %w", err)
 	}
-	var (
-		s engine.Solver
-		r engine.Result
-	)
+	s := engine.Solver{Model: m}
+	var r engine.Result
 	s.SolveCase(&p, opts.PVI, opts.CutLimit, &r)
-	sol, err := engine.Solve(p)
+	sol, err := engine.SolveModel(m, p)
 	if err != nil { // Validate passed, so this is not expected
 		return fmt.Errorf("solving: %w", err)
 	}
 	if opts.JSON {
-		return writeSolveJSON(opts.IO.Out, &p, opts.PVI, &r, sol.Pieces())
+		return writeSolveJSON(opts.IO.Out, m, &p, opts.PVI, &r, sol.Pieces())
 	}
-	return writeSolveTable(opts.IO.Out, &p, opts.PVI, &r, sol.Pieces())
+	return writeSolveTable(opts.IO.Out, m, &p, opts.PVI, &r, sol.Pieces())
 }
 
-func writeSolveTable(w io.Writer, p *engine.Params, pvi []float64, r *engine.Result, pieces []engine.Piece) error {
+// solveModel returns the model of --relperm and --table.
+func solveModel(opts *SolveOptions) (*engine.Model, error) {
+	name := opts.Relperm
+	if opts.Table != "" {
+		if name != "corey" && name != "table" {
+			return nil, badInput("--table reads measured curves: it goes with --relperm table, not %s", name)
+		}
+		name = "table"
+	}
+	fam, ok := engine.FamilyByName(name)
+	if !ok {
+		return nil, badInput("--relperm %q: want corey, let or table", name)
+	}
+	m := &engine.Model{Family: fam}
+	if fam != engine.FamilyTable {
+		return m, nil
+	}
+	if opts.Table == "" {
+		return nil, badInput("--relperm table needs --table FILE.csv")
+	}
+	f, err := os.Open(opts.Table)
+	if err != nil {
+		return nil, badInput("--table: %v", err)
+	}
+	defer f.Close()
+	m.Tables, err = engine.ReadTables(f, opts.Table)
+	if err != nil {
+		return nil, badInput("%v", err)
+	}
+	m.TableEnds = [4]bool{true, true, true, true}
+	return m, nil
+}
+
+func writeSolveTable(w io.Writer, m *engine.Model, p *engine.Params, pvi []float64, r *engine.Result, pieces []engine.Piece) error {
 	tw := tabwriter.NewWriter(w, 0, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "PARAMETER\tVALUE\tUNIT")
-	for q := engine.Param(0); q < engine.NumParams; q++ {
+	for _, q := range m.Params() {
 		fmt.Fprintf(tw, "%s\t%s\t%s\n", q, num(p[q]), q.Unit())
 	}
 	fmt.Fprintln(tw, "\t\t")
 	fmt.Fprintln(tw, "OUTPUT\tVALUE\tUNIT")
-	for _, o := range engine.Outputs(pvi) {
+	for _, o := range m.Outputs(pvi) {
 		fmt.Fprintf(tw, "%s\t%s\t%s\n", o.Name, num6(o.Get(r)), o.Unit)
 	}
 	if err := tw.Flush(); err != nil {
@@ -299,12 +362,12 @@ type pieceJSON struct {
 	SpeedHi jsonNumber `json:"speed_hi"`
 }
 
-func writeSolveJSON(w io.Writer, p *engine.Params, pvi []float64, r *engine.Result, pieces []engine.Piece) error {
+func writeSolveJSON(w io.Writer, m *engine.Model, p *engine.Params, pvi []float64, r *engine.Result, pieces []engine.Piece) error {
 	out := solveJSON{Status: r.StatusText(), Pieces: []pieceJSON{}}
-	for q := engine.Param(0); q < engine.NumParams; q++ {
+	for _, q := range m.Params() {
 		out.Parameters = append(out.Parameters, namedNumber{q.String(), jsonNumber(p[q])})
 	}
-	for _, o := range engine.Outputs(pvi) {
+	for _, o := range m.Outputs(pvi) {
 		out.Outputs = append(out.Outputs, namedNumber{o.Name, jsonNumber(o.Get(r))})
 	}
 	for _, pc := range pieces {

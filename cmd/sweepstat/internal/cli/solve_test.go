@@ -67,10 +67,11 @@ func TestSolveJSONMatchesEngine(t *testing.T) {
 	)
 	s.SolveCase(&p, pvi, studies.DefaultCutLimit, &r)
 
-	if len(got.Parameters) != int(engine.NumParams) {
-		t.Errorf("%d parameters, want %d", len(got.Parameters), engine.NumParams)
+	corey := (*engine.Model)(nil).Params()
+	if len(got.Parameters) != len(corey) {
+		t.Errorf("%d parameters, want %d", len(got.Parameters), len(corey))
 	}
-	for q := engine.Param(0); q < engine.NumParams; q++ {
+	for _, q := range corey {
 		if v := got.Parameters[q.String()]; !same(val(v), p[q]) {
 			t.Errorf("parameter %s = %v, want %v", q, val(v), p[q])
 		}
@@ -153,7 +154,7 @@ func TestSolveTable(t *testing.T) {
 	}
 	text := out.String()
 	var names []string
-	for q := engine.Param(0); q < engine.NumParams; q++ {
+	for _, q := range (*engine.Model)(nil).Params() {
 		names = append(names, q.String())
 	}
 	for _, o := range engine.Outputs([]float64{0.5, 2}) {
@@ -226,7 +227,7 @@ func TestSolveHelpListsParameters(t *testing.T) {
 	}
 	def := engine.DefaultParams()
 	lines := strings.Split(out.String(), "\n")
-	for q := engine.Param(0); q < engine.NumParams; q++ {
+	for q := engine.Param(0); q < engine.LengthM; q++ {
 		found := false
 		for _, l := range lines {
 			fs := strings.Fields(l)
