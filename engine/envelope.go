@@ -1,9 +1,6 @@
 package engine
 
-import (
-	"math"
-	"sort"
-)
+import "math"
 
 // The scan that locates the envelope's pieces samples f on a grid in
 // normalised saturation Se: uniformIntervals even steps plus geometric
@@ -65,7 +62,8 @@ type Piece struct {
 }
 
 // seTable is the fixed scan grid in Se with its logarithms, so that Corey
-// curves cost two exponentials a point.
+// curves cost at most two exponentials a point (about one on the even
+// grid, see [scan.evenPowers]).
 type seTable struct {
 	se, l1, l2 [tableSize]float64 // Se, ln Se, ln(1 − Se)
 	inv1, inv2 [tableSize]float64 // 1/Se, 1/(1 − Se)
@@ -99,6 +97,7 @@ type scan struct {
 	x, y, dy [maxGrid]float64
 	d2y      [maxGrid]float64
 	tmp      [geomLevels][4]float64
+	u1, u2   [uniformIntervals]float64 // (j/32)^n1 and (j/32)^n2 on the even grid, for Corey curves
 	hull     [maxGrid]int
 	nhull    int
 	chords   [maxGrid]chord
@@ -107,6 +106,18 @@ type scan struct {
 	ncollapsed int
 
 	minWidth, minRise float64 // minShock and minShockRise scaled to the case
+
+	cf coreyFlow // the evaluator of the Solution being built
+
+	// memo holds the last evaluations at contact points, which the
+	// chord, bump and piece steps ask for again; reset for every case.
+	memo     [2]evalAt
+	memoNext int
+}
+
+// evalAt is f and its derivatives at one saturation.
+type evalAt struct {
+	s, f, df, d2f float64
 }
 
 // chord is a shock of the envelope between contact points p < q, found
@@ -138,7 +149,8 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 		ub = 1 // exactly: the cluster at Se → 1 is needed whenever S_b is the end point
 	}
 	sc.n = 0
-	f, df, d2f := ff.Eval(a)
+	sc.memo = [len(sc.memo)]evalAt{{s: math.NaN()}, {s: math.NaN()}}
+	f, df, d2f := sc.cf.eval(ff, a)
 	sc.add(a, f, df, d2f)
 
 	t := sc.table
@@ -152,10 +164,16 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 	corey, isCorey := ff.Rel.(*Corey)
 	if hi-lo >= minTablePoints {
 		ispan := 1 / span
+		if isCorey {
+			sc.evenPowers(lo, hi)
+		}
 		eval := func(k int) (s, f, df, d2f float64) {
 			s = s1r + t.se[k]*span
 			if isCorey {
-				f, df, d2f = ff.combine(corey.evalLog(t.se[k], t.l1[k], t.l2[k], t.inv1[k], t.inv2[k], ispan))
+				// A cluster point (the even grid has its own loop below).
+				cf := &sc.cf
+				p1, p2 := powLog(t.se[k], t.l1[k], cf.n1), powLog(1-t.se[k], t.l2[k], cf.n2)
+				f, df, d2f = cf.at(ff, p1, p2, t.inv1[k]*ispan, t.inv2[k]*ispan)
 			} else {
 				f, df, d2f = ff.Eval(s)
 			}
@@ -174,7 +192,7 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 				s, f, df, d2f := eval(k)
 				sc.tmp[k] = [4]float64{s, f, df, d2f}
 				first = k
-				if corey.N1 >= 1 && isCorey && k <= low-3 && f < 0.25*cmin*(s-a) {
+				if isCorey && corey.N1 >= 1 && k <= low-3 && f < 0.25*cmin*(s-a) {
 					break
 				}
 			}
@@ -185,8 +203,22 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 			}
 			lo = low
 		}
+		k := lo
+		if isCorey {
+			// The even grid, from the powers evenPowers prepared.
+			cf := &sc.cf
+			for mid := min(hi, tableSize-geomLevels); k < mid; k++ {
+				s := s1r + t.se[k]*span
+				if s <= a || s >= b {
+					continue
+				}
+				j := k - (geomLevels - 1)
+				f, df, d2f := cf.at(ff, sc.u1[j], sc.u2[uniformIntervals-j], t.inv1[k]*ispan, t.inv2[k]*ispan)
+				sc.add(s, f, df, d2f)
+			}
+		}
 		concave := 0
-		for k := lo; k < hi; k++ {
+		for ; k < hi; k++ {
 			s, f, df, d2f := eval(k)
 			if s <= a || s >= b {
 				continue
@@ -224,25 +256,73 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 			}
 		}
 	}
-	_, df, d2f = ff.Eval(b)
+	_, df, d2f = sc.cf.eval(ff, b)
 	sc.add(b, 1, df, d2f) // the inlet flux condition f(S_b) = 1
 	sc.hullOf()
+}
+
+// evenPowers fills sc.u1[j] = (j/32)^n1 and sc.u2[32 − j] = (1 − j/32)^n2
+// for the even grid points Se = j/32 among the table indices [lo, hi).
+func (sc *scan) evenPowers(lo, hi int) {
+	jlo := max(lo-(geomLevels-1), 1)
+	jhi := min(hi-1-(geomLevels-1), uniformIntervals-1)
+	if jlo > jhi {
+		return
+	}
+	evenPowerRow(&sc.u1, sc.table, sc.cf.n1, jlo, jhi)
+	evenPowerRow(&sc.u2, sc.table, sc.cf.n2, uniformIntervals-jhi, uniformIntervals-jlo)
+}
+
+// evenPowerRow sets u[j] = (j/32)^n for j in [jlo, jhi]. The upper half,
+// j ≥ 16, costs an exponential each, as powLog does; below it
+// (j/32)^n = (2j/32)^n·(1/2)^n, one product. The product's error is that of
+// the direct exponential (the arguments' rounding errors n·ln(2j/32)·ε and
+// n·ln(1/2)·ε add up to n·ln(j/32)·ε) plus one rounding.
+func evenPowerRow(u *[uniformIntervals]float64, t *seTable, n float64, jlo, jhi int) {
+	const k0 = geomLevels - 1 // table index of Se = j/32 is k0 + j
+	if n == 1 || n == 2 || n == 3 || n == 4 {
+		for j := jlo; j <= jhi; j++ {
+			u[j] = pow(t.se[k0+j], n)
+		}
+		return
+	}
+	// Direct where 2j is beyond the range, then products downwards.
+	mid := jhi / 2
+	l := t.l1[k0 : k0+uniformIntervals]
+	for j := max(jlo, mid+1); j <= jhi; j++ {
+		u[j] = fastExp(float64(n * l[j]))
+	}
+	if jlo > mid {
+		return
+	}
+	var half float64 // (1/2)^n
+	if jhi >= uniformIntervals/2 {
+		half = u[uniformIntervals/2]
+	} else {
+		half = fastExp(float64(n * l[uniformIntervals/2]))
+	}
+	for j := mid; j >= jlo; j-- {
+		u[j] = u[2*j] * half
+	}
 }
 
 // hullOf computes the upper hull of the samples by Andrew's monotone
 // chain: a middle point on or below the chord of its neighbours is dropped.
 func (sc *scan) hullOf() {
+	n := sc.n
+	x, y, h := sc.x[:n], sc.y[:n], sc.hull[:n]
 	m := 0
-	for i := 0; i < sc.n; i++ {
+	for i := range n {
+		xi, yi := x[i], y[i]
 		for m >= 2 {
-			o, p := sc.hull[m-2], sc.hull[m-1]
-			cross := (sc.x[p]-sc.x[o])*(sc.y[i]-sc.y[o]) - (sc.y[p]-sc.y[o])*(sc.x[i]-sc.x[o])
+			o, p := h[m-2], h[m-1]
+			cross := (x[p]-x[o])*(yi-y[o]) - (y[p]-y[o])*(xi-x[o])
 			if cross < 0 {
 				break
 			}
 			m--
 		}
-		sc.hull[m] = i
+		h[m] = i
 		m++
 	}
 	sc.nhull = m
@@ -255,7 +335,7 @@ func (sc *scan) addSe(ff *FracFlow, s1r, span, se, a, b float64) {
 	if s <= a || s >= b || (sc.n > 0 && s <= sc.x[sc.n-1]) {
 		return
 	}
-	f, df, d2f := ff.Eval(s)
+	f, df, d2f := sc.cf.eval(ff, s)
 	sc.add(s, f, df, d2f)
 }
 
@@ -270,8 +350,13 @@ func (sc *scan) fanEdge(i int) bool {
 	// geometric clusters are 2^−30 apart at the ends), so the tolerance
 	// carries it along with a relative part.
 	const eps = 0x1p-52
-	tol := 1e-9*(math.Abs(sec)+1) +
-		8*eps*(math.Abs(sc.y[i])+math.Abs(sc.y[i+1])+math.Abs(sec)*(math.Abs(sc.x[i])+math.Abs(sc.x[i+1])))/dx
+	tol := 1e-9 * (math.Abs(sec) + 1)
+	if sc.d2y[i]*dx <= tol && sc.d2y[i+1]*dx <= tol && sc.dy[i] >= sec-tol && sc.dy[i+1] <= sec+tol {
+		// A fan edge even without the rounding part of the tolerance,
+		// which only widens it.
+		return true
+	}
+	tol += 8 * eps * (math.Abs(sc.y[i]) + math.Abs(sc.y[i+1]) + math.Abs(sec)*(math.Abs(sc.x[i])+math.Abs(sc.x[i+1]))) / dx
 	if sc.d2y[i]*dx > tol || sc.d2y[i+1]*dx > tol {
 		// f is convex at an end: a shock leaves or reaches it.
 		return false
@@ -283,6 +368,7 @@ func (sc *scan) fanEdge(i int) bool {
 // [sol.Init, sol.Inlet] into sol.
 func (sc *scan) envelope(sol *Solution) {
 	ff := &sol.Flow
+	sc.cf = sol.cf
 	a, b := sol.Init, sol.Inlet
 	sol.n = 0
 	if 1-sol.FInit <= nearlyOne {
@@ -314,14 +400,22 @@ func (sc *scan) envelope(sol *Solution) {
 	cur := a
 	for _, c := range sc.chords[:nc] {
 		if c.p > cur {
-			sol.addFan(cur, c.p)
+			sc.addFan(sol, cur, c.p)
 		}
-		sol.addShock(c.p, c.q)
+		sol.addShockF(c.p, c.q, sc.fAt(ff, c.p), sc.fAt(ff, c.q))
 		cur = c.q
 	}
 	if cur < b {
-		sol.addFan(cur, b)
+		sc.addFan(sol, cur, b)
 	}
+}
+
+// addFan adds the fan [lo, hi] to sol with f and f' at its ends from
+// the grid or the memo.
+func (sc *scan) addFan(sol *Solution, lo, hi float64) {
+	flo, dlo, _ := sc.evalMemo(&sol.Flow, lo)
+	fhi, dhi, _ := sc.evalMemo(&sol.Flow, hi)
+	sol.addFanF(lo, hi, flo, dlo, fhi, dhi)
 }
 
 // maxBumpRounds bounds the rounds of [scan.splitBumps]: each round adds
@@ -399,7 +493,7 @@ func (sc *scan) splitBumps(ff *FracFlow, nc int) bool {
 			x0, x1 := sc.x[k], sc.x[k+1]
 			for m := 3; m >= 1 && sc.n < maxGrid; m-- {
 				s := x0 + (x1-x0)*float64(m)/4
-				f, df, d2f := ff.Eval(s)
+				f, df, d2f := sc.cf.eval(ff, s)
 				sc.insert(k+1, s, f, df, d2f)
 				added = true
 			}
@@ -418,11 +512,12 @@ func (sc *scan) splitBumps(ff *FracFlow, nc int) bool {
 			if !(g0 > 0 && g1 < 0) {
 				continue
 			}
-			s := solveBracket(x0, x1, g0, g1, func(s float64) (float64, float64) {
-				_, df, d2f := ff.Eval(s)
+			nf := sc.cf.near(ff)
+			s, _, _ := solveBracketFrom(x0, x1, g0, g1, hermiteRoot(x0, x1, g0, g1, sc.d2y[k], sc.d2y[k+1]), func(s float64) (float64, float64) {
+				_, df, d2f := nf.eval(s)
 				return df - speed, d2f
 			})
-			f, df, d2f := ff.Eval(s)
+			f, df, d2f := sc.cf.eval(ff, s)
 			if gap := f - (fp + speed*(s-c.p)); gap > 1e-13*(1+math.Abs(f)) {
 				sc.insert(k+1, s, f, df, d2f)
 				added = true
@@ -493,8 +588,9 @@ func (sc *scan) lowerEnd(ff *FracFlow, i int, q float64) float64 {
 	a := sc.x[0]
 	fq := sc.fAt(ff, q)
 	ug := func(k int) float64 { return fq - sc.y[k] - sc.dy[k]*(q-sc.x[k]) }
+	nf := sc.cf.near(ff)
 	u := func(p float64) (float64, float64) {
-		f, df, d2f := ff.Eval(p)
+		f, df, d2f := nf.eval(p)
 		if p == a {
 			f = sc.y[0]
 		}
@@ -505,7 +601,10 @@ func (sc *scan) lowerEnd(ff *FracFlow, i int, q float64) float64 {
 	for k > 0 && sc.x[k] >= q {
 		k--
 	}
+	// U' = −f''(p)(q − p): on a grid bracket, Newton starts from the root
+	// of the cubic Hermite interpolant of U.
 	var lo, hi, ulo, uhi float64
+	x0 := math.NaN()
 	if ug(k) < 0 {
 		for k+1 <= last && sc.x[k+1] < q && ug(k+1) < 0 {
 			k++
@@ -513,6 +612,7 @@ func (sc *scan) lowerEnd(ff *FracFlow, i int, q float64) float64 {
 		lo, ulo = sc.x[k], ug(k)
 		if k+1 <= last && sc.x[k+1] < q {
 			hi, uhi = sc.x[k+1], ug(k+1)
+			x0 = hermiteRoot(lo, hi, ulo, uhi, -sc.d2y[k]*(q-lo), -sc.d2y[k+1]*(q-hi))
 		} else {
 			// The root, if any, lies between the last grid point and q,
 			// where U > 0 only close to q: probe towards q.
@@ -531,8 +631,9 @@ func (sc *scan) lowerEnd(ff *FracFlow, i int, q float64) float64 {
 			return a
 		}
 		lo, hi, ulo, uhi = sc.x[k], sc.x[k+1], ug(k), ug(k+1)
+		x0 = hermiteRoot(lo, hi, ulo, uhi, -sc.d2y[k]*(q-lo), -sc.d2y[k+1]*(q-hi))
 	}
-	p := solveBracket(lo, hi, ulo, uhi, u)
+	p, _, _ := solveBracketFrom(lo, hi, ulo, uhi, x0, u)
 	if p-a < snapTol {
 		return a
 	}
@@ -550,8 +651,9 @@ func (sc *scan) upperEnd(ff *FracFlow, j int, p float64) float64 {
 	b := sc.x[last]
 	fp := sc.fAt(ff, p)
 	tg := func(k int) float64 { return sc.dy[k]*(sc.x[k]-p) - (sc.y[k] - fp) }
+	nf := sc.cf.near(ff)
 	t := func(q float64) (float64, float64) {
-		f, df, d2f := ff.Eval(q)
+		f, df, d2f := nf.eval(q)
 		if q == b {
 			f = 1
 		}
@@ -561,7 +663,10 @@ func (sc *scan) upperEnd(ff *FracFlow, j int, p float64) float64 {
 	for k < last && sc.x[k] <= p {
 		k++
 	}
+	// T' = f''(q)(q − p): on a grid bracket, Newton starts from the root
+	// of the cubic Hermite interpolant of T.
 	var lo, hi, tlo, thi float64
+	x0 := math.NaN()
 	if tg(k) > 0 {
 		for k < last && tg(k) > 0 {
 			k++
@@ -570,6 +675,7 @@ func (sc *scan) upperEnd(ff *FracFlow, j int, p float64) float64 {
 			return b
 		}
 		lo, hi, tlo, thi = sc.x[k-1], sc.x[k], tg(k-1), tg(k)
+		x0 = hermiteRoot(lo, hi, tlo, thi, sc.d2y[k-1]*(lo-p), sc.d2y[k]*(hi-p))
 	} else {
 		for k-1 >= 0 && sc.x[k-1] > p && tg(k-1) <= 0 {
 			k--
@@ -577,6 +683,7 @@ func (sc *scan) upperEnd(ff *FracFlow, j int, p float64) float64 {
 		hi, thi = sc.x[k], tg(k)
 		if k-1 >= 0 && sc.x[k-1] > p {
 			lo, tlo = sc.x[k-1], tg(k-1)
+			x0 = hermiteRoot(lo, hi, tlo, thi, sc.d2y[k-1]*(lo-p), sc.d2y[k]*(hi-p))
 		} else {
 			// The root, if any, lies between p and the first grid point,
 			// where T > 0 only close to p (or to s1r, below which f is
@@ -590,7 +697,7 @@ func (sc *scan) upperEnd(ff *FracFlow, j int, p float64) float64 {
 			hi, thi = probeLast(t, p, hi, z, thi)
 		}
 	}
-	q := solveBracket(lo, hi, tlo, thi, t)
+	q, _, _ := solveBracketFrom(lo, hi, tlo, thi, x0, t)
 	if b-q < snapTol {
 		return b
 	}
@@ -627,26 +734,35 @@ func probeLast(g func(float64) (float64, float64), end, from, z, gfrom float64) 
 	return w, gw
 }
 
-// narrow shrinks the bracket [lo, hi] of a root of a function monotone on
-// it, whose values at lo and hi are glo and ghi, to the grid interval where
-// its grid values g(k) change sign. Grid values are the scan's, so the
-// narrowed ends keep a sign change only approximately; a grid point whose
-// sign disagrees with its neighbour's end is simply not used.
-func (sc *scan) narrow(lo, hi, glo, ghi float64, g func(k int) float64) (float64, float64, float64, float64) {
-	lo, hi, glo, ghi, _, _ = sc.narrowAt(lo, hi, glo, ghi, g)
-	return lo, hi, glo, ghi
-}
-
-// narrowAt is narrow that also returns the grid indices of the new ends,
-// −1 for an end that is still lo or hi.
-func (sc *scan) narrowAt(lo, hi, glo, ghi float64, g func(k int) float64) (float64, float64, float64, float64, int, int) {
+// narrowAt shrinks the bracket [lo, hi] of a root of g(S) = v(S) − c, a
+// function monotone on it whose values at lo and hi are glo and ghi, to the
+// grid interval where its grid values g(k) = v[k] − c change sign, and
+// returns the grid indices of the new ends, −1 for an end that is still lo
+// or hi. Grid values are the scan's, so the narrowed ends keep a sign
+// change only approximately; a grid point whose sign disagrees with its
+// neighbour's end is simply not used.
+func (sc *scan) narrowAt(lo, hi, glo, ghi float64, v *[maxGrid]float64, c float64) (float64, float64, float64, float64, int, int) {
 	klo, khi := -1, -1
-	// Grid points strictly inside (lo, hi).
-	i := sort.SearchFloat64s(sc.x[:sc.n], lo)
-	for i < sc.n && sc.x[i] <= lo {
-		i++
+	x := sc.x[:sc.n]
+	// Grid points strictly inside (lo, hi): from i, the first above lo,
+	// to j, the last below hi.
+	i, k := 0, len(x)
+	for i < k {
+		if m := int(uint(i+k) >> 1); x[m] <= lo {
+			i = m + 1
+		} else {
+			k = m
+		}
 	}
-	j := sort.SearchFloat64s(sc.x[:sc.n], hi) - 1
+	j, k := i, len(x)
+	for j < k {
+		if m := int(uint(j+k) >> 1); x[m] < hi {
+			j = m + 1
+		} else {
+			k = m
+		}
+	}
+	j--
 	if i > j {
 		return lo, hi, glo, ghi, klo, khi
 	}
@@ -655,17 +771,17 @@ func (sc *scan) narrowAt(lo, hi, glo, ghi float64, g func(k int) float64) (float
 	a, b := i, j+1
 	for a < b {
 		m := (a + b) / 2
-		if (g(m) < 0) == neg {
+		if (v[m]-c < 0) == neg {
 			a = m + 1
 		} else {
 			b = m
 		}
 	}
 	if a > i {
-		lo, glo, klo = sc.x[a-1], g(a-1), a-1
+		lo, glo, klo = x[a-1], v[a-1]-c, a-1
 	}
 	if a <= j {
-		hi, ghi, khi = sc.x[a], g(a), a
+		hi, ghi, khi = x[a], v[a]-c, a
 	}
 	return lo, hi, glo, ghi, klo, khi
 }
@@ -678,21 +794,28 @@ func (sc *scan) fAt(ff *FracFlow, s float64) float64 {
 	case sc.x[sc.n-1]:
 		return 1
 	}
-	return ff.F(s)
+	f, _, _ := sc.evalMemo(ff, s)
+	return f
 }
 
-// solveBracket returns a root of g in [lo, hi], where glo = g(lo) and
-// ghi = g(hi) do not have the same strict sign. g returns its value and
-// derivative. Newton steps are taken while they stay inside the shrinking
-// bracket; otherwise the step is a bisection, so the iteration cannot fail.
-func solveBracket(lo, hi, glo, ghi float64, g func(float64) (float64, float64)) float64 {
-	x, _, _ := solveBracketFrom(lo, hi, glo, ghi, math.NaN(), g)
-	return x
-}
-
-// solveBracketAt is [solveBracketFrom] starting from false position.
-func solveBracketAt(lo, hi, glo, ghi float64, g func(float64) (float64, float64)) (x, xe, dge float64) {
-	return solveBracketFrom(lo, hi, glo, ghi, math.NaN(), g)
+// evalMemo returns f, f′ and f″ at s, from the grid's end states or the
+// memo when s was evaluated there.
+func (sc *scan) evalMemo(ff *FracFlow, s float64) (f, df, d2f float64) {
+	switch s {
+	case sc.x[0]:
+		return sc.y[0], sc.dy[0], sc.d2y[0]
+	case sc.x[sc.n-1]:
+		return sc.y[sc.n-1], sc.dy[sc.n-1], sc.d2y[sc.n-1]
+	}
+	for i := range sc.memo {
+		if m := &sc.memo[i]; m.s == s {
+			return m.f, m.df, m.d2f
+		}
+	}
+	f, df, d2f = sc.cf.eval(ff, s)
+	sc.memo[sc.memoNext] = evalAt{s, f, df, d2f}
+	sc.memoNext = (sc.memoNext + 1) % len(sc.memo)
+	return f, df, d2f
 }
 
 // hermiteRoot returns the root in (x0, x1) of the cubic Hermite
@@ -730,10 +853,14 @@ func hermiteRoot(x0, x1, g0, g1, d0, d1 float64) float64 {
 // not Newton-small anyway.
 const newtonAccept = 1e-12
 
-// solveBracketAt is solveBracket that also returns the last point
-// evaluated, xe, and the derivative there, dge; the root x differs from xe
-// by at most one accepted Newton step, so callers can extrapolate values
-// at x from xe to first order instead of evaluating again.
+// solveBracketFrom returns a root x of g in [lo, hi], where glo = g(lo)
+// and ghi = g(hi) do not have the same strict sign; g returns its value
+// and derivative. Newton steps are taken while they stay inside the
+// shrinking bracket, so the iteration cannot fail. It also returns the
+// last point evaluated, xe, and the derivative there, dge; the root x
+// differs from xe by at most one accepted Newton step, so callers can
+// extrapolate values at x from xe to first order instead of evaluating
+// again.
 //
 // A step that Newton would take outside the bracket is replaced by a
 // false-position step with the Illinois modification (Dowell & Jarratt
@@ -756,13 +883,13 @@ func solveBracketFrom(lo, hi, glo, ghi, x0 float64, g func(float64) (float64, fl
 		lo, hi, glo, ghi = hi, lo, ghi, glo
 	}
 	falsePos := func() float64 {
-		if xs := lo - glo*(hi-lo)/(ghi-glo); xs > math.Min(lo, hi) && xs < math.Max(lo, hi) {
+		if xs := lo - glo*(hi-lo)/(ghi-glo); xs > min(lo, hi) && xs < max(lo, hi) {
 			return xs
 		}
 		return 0.5 * (lo + hi)
 	}
 	x = falsePos()
-	if x0 > math.Min(lo, hi) && x0 < math.Max(lo, hi) {
+	if x0 > min(lo, hi) && x0 < max(lo, hi) {
 		x = x0
 	}
 	prevStep := math.Inf(1)
@@ -793,7 +920,7 @@ func solveBracketFrom(lo, hi, glo, ghi, x0 float64, g func(float64) (float64, fl
 			return x - step, x, dgx
 		}
 		next := x - step
-		newton := next > math.Min(lo, hi) && next < math.Max(lo, hi)
+		newton := next > min(lo, hi) && next < max(lo, hi)
 		if !newton {
 			next = falsePos()
 			if w := math.Abs(hi - lo); w > 0.5*width {

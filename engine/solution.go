@@ -48,12 +48,13 @@ func (s Status) String() string {
 // xD/tD. A Solution is filled by [Solve] or [Solver.Solve] and may be
 // reused; its methods do not allocate.
 type Solution struct {
-	Flow   FracFlow
+	Flow FracFlow
 	// The curves Flow.Rel points at, one per family, kept here so that
 	// Solve does not allocate.
 	corey  Corey
 	let    LET
 	scaled ScaledTable
+	cf     coreyFlow // Flow's fast Corey evaluator, set by Solve (inactive for other curves)
 	Params Params
 	Init   float64 // s1_init
 	Inlet  float64 // S_b
@@ -70,15 +71,26 @@ type Solution struct {
 func (sol *Solution) Pieces() []Piece { return sol.pieces[:sol.n] }
 
 func (sol *Solution) addShock(lo, hi float64) {
-	flo, fhi := sol.f(lo), sol.f(hi)
+	sol.addShockF(lo, hi, sol.f(lo), sol.f(hi))
+}
+
+// addShockF adds a shock given f at its ends, which are replaced by the
+// exact values at the end states.
+func (sol *Solution) addShockF(lo, hi, flo, fhi float64) {
+	if lo == sol.Init {
+		flo = sol.FInit
+	}
+	if hi == sol.Inlet {
+		fhi = 1
+	}
 	speed := (fhi - flo) / (hi - lo)
 	sol.pieces[sol.n] = Piece{Lo: lo, Hi: hi, FLo: flo, FHi: fhi, SpeedLo: speed, SpeedHi: speed, Shock: true}
 	sol.n++
 }
 
-func (sol *Solution) addFan(lo, hi float64) {
-	flo, dlo, _ := sol.Flow.Eval(lo)
-	fhi, dhi, _ := sol.Flow.Eval(hi)
+// addFanF adds a fan given f and f' at its ends; f is replaced by the
+// exact values at the end states.
+func (sol *Solution) addFanF(lo, hi, flo, dlo, fhi, dhi float64) {
 	if lo == sol.Init {
 		flo = sol.FInit
 	}
@@ -97,7 +109,7 @@ func (sol *Solution) f(s float64) float64 {
 	case sol.Inlet:
 		return 1
 	}
-	return sol.Flow.F(s)
+	return sol.cf.f(&sol.Flow, s)
 }
 
 // FrontSpeed returns the envelope's slope at s1_init: the speed of the
@@ -183,7 +195,7 @@ func (sol *Solution) fanState(p *Piece, xi float64, sc *scan) (s, f float64) {
 	x0 := math.NaN()
 	if sc != nil {
 		var klo, khi int
-		lo, hi, glo, ghi, klo, khi = sc.narrowAt(lo, hi, glo, ghi, func(k int) float64 { return sc.dy[k] - xi })
+		lo, hi, glo, ghi, klo, khi = sc.narrowAt(lo, hi, glo, ghi, &sc.dy, xi)
 		if klo >= 0 && khi == klo+1 {
 			// Both ends are grid points with f'' known: start Newton from
 			// the root of the cubic through f' and f'' there.
@@ -191,8 +203,9 @@ func (sol *Solution) fanState(p *Piece, xi float64, sc *scan) (s, f float64) {
 		}
 	}
 	fe := math.NaN() // f at the last point evaluated, if any
+	nf := sol.cf.near(&sol.Flow)
 	s, se, _ := solveBracketFrom(lo, hi, glo, ghi, x0, func(s float64) (float64, float64) {
-		f, df, d2f := sol.Flow.Eval(s)
+		f, df, d2f := nf.eval(s)
 		fe = f
 		return df - xi, d2f
 	})
@@ -202,7 +215,7 @@ func (sol *Solution) fanState(p *Piece, xi float64, sc *scan) (s, f float64) {
 	}
 	if math.IsNaN(fe) {
 		// The root was a bracket end (a grid point where f' = xi exactly).
-		return s, sol.Flow.F(s)
+		return s, sol.cf.f(&sol.Flow, s)
 	}
 	if s == se {
 		return s, fe
@@ -212,7 +225,7 @@ func (sol *Solution) fanState(p *Piece, xi float64, sc *scan) (s, f float64) {
 		// to within f″·1e-24, and f′(se) ≈ xi there.
 		return s, fe + xi*(s-se)
 	}
-	return s, sol.Flow.F(s)
+	return s, sol.cf.f(&sol.Flow, s)
 }
 
 // Saturation returns S(xD, tD), the phase-1 saturation at dimensionless
@@ -270,15 +283,19 @@ func (sol *Solution) Recovery(tD float64) float64 {
 // or NaN if it never does. The cut is f(s1_init) until breakthrough, then
 // follows the envelope; it jumps where a shock arrives.
 func (sol *Solution) PVIAtCut(limit float64) float64 {
-	return sol.pviAtCut(limit, nil)
+	t, _, _ := sol.pviAtCut(limit, nil)
+	return t
 }
 
-func (sol *Solution) pviAtCut(limit float64, sc *scan) float64 {
+// pviAtCut returns PVIAtCut(limit) and, when the limit is reached inside a
+// fan, the outlet state there (f(state) = limit) with ok = true, from which
+// SolveCase computes the recovery without solving for the state again.
+func (sol *Solution) pviAtCut(limit float64, sc *scan) (t, state float64, ok bool) {
 	if sol.n == 0 || math.IsNaN(limit) {
-		return math.NaN()
+		return math.NaN(), 0, false
 	}
 	if limit <= sol.FInit {
-		return 0
+		return 0, 0, false
 	}
 	for k := range sol.n {
 		p := &sol.pieces[k]
@@ -286,18 +303,26 @@ func (sol *Solution) pviAtCut(limit float64, sc *scan) float64 {
 			continue
 		}
 		if p.Shock {
-			return 1 / p.Speed()
+			return 1 / p.Speed(), 0, false
 		}
 		if limit <= p.FLo {
-			return 1 / p.SpeedLo
+			return 1 / p.SpeedLo, 0, false
 		}
 		lo, hi, glo, ghi := p.Lo, p.Hi, p.FLo-limit, p.FHi-limit
+		x0 := math.NaN()
 		if sc != nil {
-			lo, hi, glo, ghi = sc.narrow(lo, hi, glo, ghi, func(k int) float64 { return sc.y[k] - limit })
+			var klo, khi int
+			lo, hi, glo, ghi, klo, khi = sc.narrowAt(lo, hi, glo, ghi, &sc.y, limit)
+			if klo >= 0 && khi == klo+1 {
+				// Start Newton from the root of the cubic through f and f'
+				// at the grid points.
+				x0 = hermiteRoot(lo, hi, glo, ghi, sc.dy[klo], sc.dy[khi])
+			}
 		}
 		var d2e float64 // f'' at the last point evaluated
-		s, se, speed := solveBracketAt(lo, hi, glo, ghi, func(s float64) (float64, float64) {
-			f, df, d2f := sol.Flow.Eval(s)
+		nf := sol.cf.near(&sol.Flow)
+		s, se, speed := solveBracketFrom(lo, hi, glo, ghi, x0, func(s float64) (float64, float64) {
+			f, df, d2f := nf.eval(s)
 			d2e = d2f
 			return f - limit, df
 		})
@@ -305,13 +330,13 @@ func (sol *Solution) pviAtCut(limit float64, sc *scan) float64 {
 			if math.Abs(s-se) <= newtonAccept && !math.IsNaN(speed) && !math.IsNaN(d2e) {
 				speed += d2e * (s - se)
 			} else {
-				speed = sol.Flow.Slope(s)
+				_, speed, _ = sol.cf.eval(&sol.Flow, s)
 			}
 		}
 		if !(speed > 0) {
-			return math.NaN()
+			return math.NaN(), 0, false
 		}
-		return 1 / speed
+		return 1 / speed, s, true
 	}
-	return math.NaN()
+	return math.NaN(), 0, false
 }

@@ -53,13 +53,14 @@ func (s *Solver) Solve(p *Params, sol *Solution) error {
 		return err
 	}
 	sol.Flow = FracFlow{Rel: sol.curves(m), R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
+	sol.cf.set(&sol.Flow)
 	sol.Init = p[S1Init]
 	if s1r := p[S1r]; sol.Init < s1r && s1r-sol.Init <= initSnap {
 		// Below s1r by less than double precision can resolve against the
 		// curves' end-point slope: the same case as s1_init = s1r.
 		sol.Init = s1r
 	}
-	sol.FInit = sol.Flow.F(sol.Init)
+	sol.FInit = sol.cf.f(&sol.Flow, sol.Init)
 	if !(sol.FInit >= 0 && sol.FInit < 1) {
 		sol.Status = StatusCounterCurrent
 		sol.Inlet = math.NaN()
@@ -161,10 +162,17 @@ func (s *Solver) SolveCase(p *Params, pvi []float64, cutLimit float64, r *Result
 		r.RecoveryAt[i] = (avg - sol.Init) * scale
 		r.CutAt[i] = cut
 	}
-	r.PVIAtCutLimit = sol.pviAtCut(cutLimit, &s.sc)
+	tc, sCut, inFan := sol.pviAtCut(cutLimit, &s.sc)
+	r.PVIAtCutLimit = tc
 	r.RecoveryAtCutLimit = math.NaN()
-	if !math.IsNaN(r.PVIAtCutLimit) {
-		avg, _ := sol.averageAndCut(r.PVIAtCutLimit, &s.sc)
+	switch {
+	case inFan:
+		// The outlet state at the cut limit is known, f(sCut) = cutLimit:
+		// Welge's average from it, bounded as in averageAndCut.
+		avg := min(sCut+tc*(1-cutLimit), sol.Inlet)
+		r.RecoveryAtCutLimit = (avg - sol.Init) * scale
+	case !math.IsNaN(tc):
+		avg, _ := sol.averageAndCut(tc, &s.sc)
 		r.RecoveryAtCutLimit = (avg - sol.Init) * scale
 	}
 }

@@ -71,7 +71,7 @@ func TestParseVolumes(t *testing.T) {
 	sched = strings.Replace(sched, "  width_m: 400\n  thickness_m: {dist: uniform, min: 20, max: 30}\n", "  area_m2: 10000\n", 1)
 	s = mustParse(t, sched)
 	v = s.Model().Volumes
-	if v.AreaFromWidth || v.VelocityFromRate || !slices.Equal(v.Schedule, []engine.RateStep{{0, 400}, {90, 900}}) {
+	if v.AreaFromWidth || v.VelocityFromRate || !slices.Equal(v.Schedule, []engine.RateStep{{FromDay: 0, M3PerDay: 400}, {FromDay: 90, M3PerDay: 900}}) {
 		t.Errorf("scheduled volumes %+v", v)
 	}
 	if slices.Contains(s.Model().Params(), engine.RateM3PerDay) {
