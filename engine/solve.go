@@ -27,6 +27,16 @@ func Solve(p Params) (*Solution, error) {
 // but sets sol.Status to StatusCounterCurrent. Solve does not allocate for
 // valid parameters.
 func (s *Solver) Solve(p *Params, sol *Solution) error {
+	sol.corey = coreyOf(p)
+	return s.solveRel(p, &sol.corey, sol)
+}
+
+// solveRel is Solve with the relative permeabilities rel in place of the
+// Corey curves of p: the residuals, initial state and inlet state come
+// from rel, everything else (s1_init, viscosities, gravity) from p, which
+// must still pass [Params.Validate]. rel must stay unchanged while sol is
+// in use.
+func (s *Solver) solveRel(p *Params, rel RelPerm, sol *Solution) error {
 	sol.Params = *p
 	sol.n = 0
 	sol.Err = nil
@@ -35,10 +45,9 @@ func (s *Solver) Solve(p *Params, sol *Solution) error {
 		sol.Err = err
 		return err
 	}
-	sol.corey = coreyOf(p)
-	sol.Flow = FracFlow{Rel: &sol.corey, R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
+	sol.Flow = FracFlow{Rel: rel, R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
 	sol.Init = p[S1Init]
-	if s1r := p[S1r]; sol.Init < s1r && s1r-sol.Init <= initSnap {
+	if s1r, _ := rel.Residuals(); sol.Init < s1r && s1r-sol.Init <= initSnap {
 		// Below s1r by less than double precision can resolve against the
 		// curves' end-point slope: the same case as s1_init = s1r.
 		sol.Init = s1r
@@ -99,10 +108,21 @@ func (r *Result) StatusText() string {
 // reusing their storage when it is large enough, so a Result reused across
 // calls makes SolveCase allocation-free for valid cases.
 func (s *Solver) SolveCase(p *Params, pvi []float64, cutLimit float64, r *Result) {
+	err := s.Solve(p, &s.sol)
+	s.fillResult(err, pvi, cutLimit, r)
+}
+
+// solveCaseRel is SolveCase with the curves rel (see [Solver.solveRel]).
+func (s *Solver) solveCaseRel(p *Params, rel RelPerm, pvi []float64, cutLimit float64, r *Result) {
+	err := s.solveRel(p, rel, &s.sol)
+	s.fillResult(err, pvi, cutLimit, r)
+}
+
+// fillResult fills r from the solution in s.sol, whose Solve returned err.
+func (s *Solver) fillResult(err error, pvi []float64, cutLimit float64, r *Result) {
 	r.RecoveryAt = resize(r.RecoveryAt, len(pvi))
 	r.CutAt = resize(r.CutAt, len(pvi))
 	sol := &s.sol
-	err := s.Solve(p, sol)
 	r.Status = sol.Status
 	r.Rule = ""
 	r.GravityNumber = math.NaN()
