@@ -10,6 +10,11 @@
 // (mu in mPa·s, perm in mD, velocity in m/day, densities in kg/m³, dip in
 // degrees with positive meaning the flow goes up-dip).
 //
+// Relative permeabilities are Corey curves ([Corey], what [Solve] uses),
+// or any [RelPerm]: the LET correlation ([LET]) and measured tables
+// ([Table] from [NewTable] or [ReadTables], scaled to a case's end points
+// by [ScaledTable]).
+//
 // The envelope is found by a scan of f over a saturation grid and then
 // solved exactly: every tangency point, outlet state and cut-limit state
 // is a root of an analytic equation in f, f' and f”, solved by bracketed

@@ -21,8 +21,20 @@ const (
 	// minTablePoints is the fewest table points inside [s1_init, S_b] for
 	// which the fixed table is used; a narrower range gets a grid of its own.
 	minTablePoints = 40
-	maxGrid        = tableSize + 2 + 48 // the table, both end states and points added where the grid was too coarse
+	maxGrid        = tableSize + 2 + 48 + maxScanHints // the table, both end states, points added where the grid was too coarse and the curves' own knots
+	// maxScanHints bounds the points a piecewise curve adds to the grid
+	// (see scanHinter).
+	maxScanHints = 256
 )
+
+// scanHinter is implemented by curves that are smooth only piecewise, such
+// as tabulated ones: scanPoints appends to dst, in increasing order, at most
+// maxScanHints saturations for the scan to sample as well, on both sides of
+// each knot (where f″ jumps) and inside each piece, so that no grid
+// interval spans a knot and the grid is finer than the curves' pieces.
+type scanHinter interface {
+	scanPoints(dst []float64) []float64
+}
 
 // maxPieces bounds the pieces of one envelope: the scan's hull has at most
 // maxGrid−1 edges, each giving at most one shock and one fan.
@@ -39,6 +51,14 @@ const minShock = 1e-7
 // rise is rounding noise of f near a flat stretch (f ≈ 1 close to S_b), and
 // the shock would only matter after more than 1e12 pore volumes.
 const minShockRise = 1e-12
+
+// hintGap is the closest, as a fraction of the span 1 − s1r − s2r, that a
+// point asked for by a scanHinter may come to another grid point.
+const hintGap = 1e-9
+
+// flatTop is how close to 1 f may come in the scan's cluster at Se → 1
+// before the cluster is cut short, for curves other than Corey's.
+const flatTop = 1e-9
 
 // nearlyOne is how close to 1 f(s1_init) may come before the envelope is
 // taken as one shock to S_b.
@@ -102,6 +122,8 @@ type scan struct {
 	nhull    int
 	chords   [maxGrid]chord
 
+	hints [maxScanHints]float64 // scratch for scanHinter points
+
 	collapsed  [4][2]int // hull edges whose shock could not be solved
 	ncollapsed int
 
@@ -162,6 +184,16 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 		hi--
 	}
 	corey, isCorey := ff.Rel.(*Corey)
+	// Points asked for by a piecewise curve; when there are many, they
+	// replace the even steps of the fixed grid (the geometric clusters
+	// stay).
+	var hints []float64
+	if !isCorey {
+		if h, ok := ff.Rel.(scanHinter); ok {
+			hints = h.scanPoints(sc.hints[:0])
+		}
+	}
+	skipEven := len(hints) >= 2*uniformIntervals
 	if hi-lo >= minTablePoints {
 		ispan := 1 / span
 		if isCorey {
@@ -218,6 +250,9 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 			}
 		}
 		concave := 0
+		if skipEven {
+			k = max(k, tableSize-geomLevels) // past the even steps
+		}
 		for ; k < hi; k++ {
 			s, f, df, d2f := eval(k)
 			if s <= a || s >= b {
@@ -237,6 +272,13 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 					break
 				}
 			}
+			// For other curves it is cut once f is within flatTop of 1:
+			// finer points differ from 1 by rounding noise, whose hull
+			// edges only cost ill-conditioned tangency solves, and any
+			// shock among them would rise by less than flatTop.
+			if k >= tableSize-geomLevels && !isCorey && 1-f <= flatTop {
+				break
+			}
 		}
 	} else {
 		// A narrow range: even steps over it, clustered geometrically
@@ -255,6 +297,9 @@ func (sc *scan) build(ff *FracFlow, a, b float64) {
 				sc.addSe(ff, s1r, span, ub-w*math.Ldexp(1, -i), a, b)
 			}
 		}
+	}
+	if len(hints) > 0 {
+		sc.addHints(ff, hints, a, b)
 	}
 	_, df, d2f = sc.cf.eval(ff, b)
 	sc.add(b, 1, df, d2f) // the inlet flux condition f(S_b) = 1
@@ -304,6 +349,41 @@ func evenPowerRow(u *[uniformIntervals]float64, t *seTable, n float64, jlo, jhi 
 	for j := mid; j >= jlo; j-- {
 		u[j] = u[2*j] * half
 	}
+}
+
+// addHints merges the increasing saturations pts that lie strictly inside
+// (a, b) into the grid, skipping any within hintGap of a point already
+// taken (two points an ulp apart would only feed rounding noise to the
+// hull). The grid is moved to the top of the arrays and merged down with
+// the new points; the write index never passes the read index because
+// len(pts) ≤ maxScanHints leaves that much room above the grid.
+func (sc *scan) addHints(ff *FracFlow, pts []float64, a, b float64) {
+	s1r, s2r := ff.Rel.Residuals()
+	gap := hintGap * (1 - s1r - s2r)
+	n := sc.n
+	off := maxGrid - n
+	copy(sc.x[off:], sc.x[:n])
+	copy(sc.y[off:], sc.y[:n])
+	copy(sc.dy[off:], sc.dy[:n])
+	copy(sc.d2y[off:], sc.d2y[:n])
+	i, j, k := 0, 0, 0
+	for i < n || j < len(pts) {
+		if j < len(pts) && (pts[j] <= a+gap || pts[j] >= b-gap ||
+			(k > 0 && pts[j] <= sc.x[k-1]+gap) || (i < n && math.Abs(sc.x[off+i]-pts[j]) <= gap)) {
+			j++
+			continue
+		}
+		if i < n && (j == len(pts) || sc.x[off+i] <= pts[j]) {
+			sc.x[k], sc.y[k], sc.dy[k], sc.d2y[k] = sc.x[off+i], sc.y[off+i], sc.dy[off+i], sc.d2y[off+i]
+			i++
+		} else {
+			f, df, d2f := ff.Eval(pts[j])
+			sc.x[k], sc.y[k], sc.dy[k], sc.d2y[k] = pts[j], f, df, d2f
+			j++
+		}
+		k++
+	}
+	sc.n = k
 }
 
 // hullOf computes the upper hull of the samples by Andrew's monotone
@@ -500,6 +580,9 @@ func (sc *scan) splitBumps(ff *FracFlow, nc int) bool {
 		}
 	}
 	sc.ncollapsed = 0
+	if _, ok := ff.Rel.(*Corey); !ok {
+		return sc.splitHidden(ff, nc) || added
+	}
 	for _, c := range sc.chords[:nc] {
 		fp := sc.fAt(ff, c.p)
 		speed := (sc.fAt(ff, c.q) - fp) / (c.q - c.p)
@@ -526,6 +609,148 @@ func (sc *scan) splitBumps(ff *FracFlow, nc int) bool {
 		}
 	}
 	return added
+}
+
+// splitHidden is the bump search of [scan.splitBumps] for curves other
+// than Corey's, which may hide structure inside one grid interval (a short
+// steep stretch of a table, a LET curve with large exponents):
+//
+//   - A hull edge between neighbouring samples where f″ ≤ 0 may still
+//     hide a convex stretch: where the cubic Hermite interpolant of f'
+//     through f″ at the edge's ends rises, f is sampled at the
+//     interpolant's steepest rise, and the sample is kept if f″ > 0 there,
+//     so that the next hull sees it.
+//   - Under a shock of speed c, a bump may sit inside one interval with
+//     f' − c of one sign at both ends: there the cubic Hermite interpolant
+//     of f' − c is asked whether it crosses zero and back, and f' − c is
+//     evaluated at its extremum to split the interval. The intervals at the
+//     shock's own end states (s1_init or S_b on the grid) are searched too.
+//
+// It reports whether any sample was added.
+func (sc *scan) splitHidden(ff *FracFlow, nc int) bool {
+	added := false
+	for e := sc.nhull - 2; e >= 0 && sc.n < maxGrid; e-- {
+		i := sc.hull[e]
+		if sc.hull[e+1] != i+1 || sc.d2y[i] > 0 || sc.d2y[i+1] > 0 {
+			continue
+		}
+		z := hermiteRise(sc.x[i], sc.x[i+1], sc.dy[i], sc.dy[i+1], sc.d2y[i], sc.d2y[i+1])
+		if math.IsNaN(z) {
+			continue
+		}
+		if f, df, d2f := ff.Eval(z); d2f > 0 {
+			sc.insert(i+1, z, f, df, d2f)
+			added = true
+		}
+	}
+	for _, c := range sc.chords[:nc] {
+		fp := sc.fAt(ff, c.p)
+		speed := (sc.fAt(ff, c.q) - fp) / (c.q - c.p)
+		for k := 0; k+1 < sc.n && sc.n < maxGrid; k++ {
+			x0, x1 := sc.x[k], sc.x[k+1]
+			if x0 < c.p || x1 > c.q || ((x0 == c.p || x1 == c.q) && x0 != sc.x[0] && x1 != sc.x[sc.n-1]) {
+				continue
+			}
+			g0, g1 := sc.dy[k]-speed, sc.dy[k+1]-speed
+			if !(g0 > 0 && g1 < 0) {
+				z := hermiteTurn(x0, x1, g0, g1, sc.d2y[k], sc.d2y[k+1])
+				if math.IsNaN(z) {
+					continue
+				}
+				_, dfz, _ := ff.Eval(z)
+				switch gz := dfz - speed; {
+				case gz > 0 && g1 < 0:
+					x0, g0 = z, gz
+				case g0 > 0 && gz < 0:
+					x1, g1 = z, gz
+				default:
+					continue
+				}
+			}
+			s, _, _ := solveBracketFrom(x0, x1, g0, g1, math.NaN(), func(s float64) (float64, float64) {
+				_, df, d2f := ff.Eval(s)
+				return df - speed, d2f
+			})
+			f, df, d2f := ff.Eval(s)
+			if gap := f - (fp + speed*(s-c.p)); gap > 1e-13*(1+math.Abs(f)) {
+				sc.insert(k+1, s, f, df, d2f)
+				added = true
+				k++
+			}
+		}
+	}
+	return added
+}
+
+// hermiteTurn returns the point of (x0, x1) where the cubic Hermite
+// interpolant of g through (x0, g0, d0) and (x1, g1, d1) turns back across
+// zero: its interior maximum when g0, g1 ≤ 0 and that maximum is positive,
+// its interior minimum when g0, g1 ≥ 0 and that minimum is negative; NaN
+// otherwise (no such turn, or d0, d1 not finite).
+func hermiteTurn(x0, x1, g0, g1, d0, d1 float64) float64 {
+	h := x1 - x0
+	if !(h > 0) || math.IsNaN(d0+d1) || math.IsInf(d0+d1, 0) {
+		return math.NaN()
+	}
+	var sign float64
+	switch {
+	case g0 <= 0 && g1 <= 0:
+		sign = 1
+	case g0 >= 0 && g1 >= 0:
+		sign = -1
+	default:
+		return math.NaN()
+	}
+	// p(t) = g0 + m0 t + c2 t² + c3 t³ on t ∈ [0, 1]; p'(t) = m0 + 2c2 t + 3c3 t².
+	m0, m1 := h*d0, h*d1
+	c2 := 3*(g1-g0) - 2*m0 - m1
+	c3 := 2*(g0-g1) + m0 + m1
+	best, bestT := 0.0, math.NaN()
+	try := func(t float64) {
+		if t > 0 && t < 1 {
+			if v := sign * (g0 + t*(m0+t*(c2+t*c3))); v > best {
+				best, bestT = v, t
+			}
+		}
+	}
+	if a := 3 * c3; a == 0 {
+		if c2 != 0 {
+			try(-m0 / (2 * c2))
+		}
+	} else if disc := c2*c2 - a*m0; disc >= 0 {
+		r := math.Sqrt(disc)
+		try((-c2 + r) / a)
+		try((-c2 - r) / a)
+	}
+	if math.IsNaN(bestT) {
+		return math.NaN()
+	}
+	return x0 + bestT*h
+}
+
+// hermiteRise returns the point of (x0, x1) where the slope of the cubic
+// Hermite interpolant of g through (x0, g0, d0) and (x1, g1, d1) is
+// largest, if that slope is positive there; NaN otherwise. For g = f' on
+// a stretch where f″ ≤ 0 at both ends, a positive value means f' rises
+// inside: f is convex somewhere between the two samples.
+func hermiteRise(x0, x1, g0, g1, d0, d1 float64) float64 {
+	h := x1 - x0
+	if !(h > 0) || math.IsNaN(d0+d1) || math.IsInf(d0+d1, 0) {
+		return math.NaN()
+	}
+	// p'(t) = m0 + 2c2 t + 3c3 t², a parabola with its top inside (0, 1)
+	// only when c3 < 0.
+	m0, m1 := h*d0, h*d1
+	c2 := 3*(g1-g0) - 2*m0 - m1
+	c3 := 2*(g0-g1) + m0 + m1
+	if !(c3 < 0) {
+		return math.NaN()
+	}
+	t := -c2 / (3 * c3)
+	if !(t > 0 && t < 1) || !(m0+t*(2*c2+3*c3*t) > 0) {
+		return math.NaN()
+	}
+	return x0 + t*h
 }
 
 // insert puts a sample at index k of the grid, shifting the rest up.
@@ -846,6 +1071,11 @@ func hermiteRoot(x0, x1, g0, g1, d0, d1 float64) float64 {
 	return x0 + t*h
 }
 
+// newtonPatience is the number of iterations of [solveBracketFrom] after
+// which a Newton step that is not at most half the previous step is
+// replaced by a bracketing step.
+const newtonPatience = 6
+
 // newtonAccept is the Newton step below which the next iterate is taken
 // without another evaluation: Newton's error after a step of size h is of
 // order (g″/g′)·h², far below tangencyTol for h ≤ 1e-12 unless g″/g′ is
@@ -895,7 +1125,7 @@ func solveBracketFrom(lo, hi, glo, ghi, x0 float64, g func(float64) (float64, fl
 	prevStep := math.Inf(1)
 	side := 0 // which end the last false-position step replaced: −1 lo, +1 hi
 	width := math.Abs(hi - lo)
-	for range 100 {
+	for it := range 100 {
 		gx, dgx := g(x)
 		if gx == 0 || math.IsNaN(gx) {
 			return x, x, dgx
@@ -921,6 +1151,13 @@ func solveBracketFrom(lo, hi, glo, ghi, x0 float64, g func(float64) (float64, fl
 		}
 		next := x - step
 		newton := next > min(lo, hi) && next < max(lo, hi)
+		if newton && it >= newtonPatience && math.Abs(step) > 0.5*prevStep {
+			// Newton stays inside the bracket but its steps stopped
+			// shrinking: a cycle across a jump of g' (a knot of a
+			// tabulated curve, where f″ jumps). Bisect instead, as
+			// rtsafe does (Press et al. 2007, §9.4, from memory).
+			newton = false
+		}
 		if !newton {
 			next = falsePos()
 			if w := math.Abs(hi - lo); w > 0.5*width {

@@ -80,8 +80,9 @@ func (ff *FracFlow) F(s float64) float64 {
 //	N'' = kr1''(1 − G kr2) − 2G kr1' kr2' − G kr1 kr2''
 //
 // D > 0 on the whole saturation range, so f is smooth wherever the curves
-// are. Where a curve's slope is infinite (an exponent below one at its end
-// point) the derivatives are the one-sided limits, ±Inf.
+// are. Where a curve's derivative is infinite (an exponent below one, or
+// between one and two for f″, at a residual end point) the derivatives are
+// the one-sided limits, which may be ±Inf; see [FracFlow.endLimits].
 func (ff *FracFlow) Eval(s float64) (f, df, d2f float64) {
 	return ff.combine(ff.Rel.Eval(s))
 }
@@ -93,18 +94,17 @@ func (ff *FracFlow) combine(v RelPermValue) (f, df, d2f float64) {
 	inv := 1 / (v.Kr1 + r*v.Kr2)
 	f = n * inv
 	if math.IsInf(v.DKr1, 0) || math.IsInf(v.DKr2, 0) {
-		return f, ff.infSlope(v), math.NaN()
+		df, d2f = ff.endLimits(v)
+		return f, df, d2f
 	}
 	dn := v.DKr1*(1-g*v.Kr2) - g*v.Kr1*v.DKr2
 	dd := v.DKr1 + r*v.DKr2
 	df = (dn - f*dd) * inv
-	switch {
-	case math.IsInf(v.D2Kr1, 0):
-		// At Se = 0 with 1 < n1 < 2: f'' = kr1''(1 − G kr2)/D.
-		return f, df, math.Copysign(math.Inf(1), 1-g*v.Kr2)
-	case math.IsInf(v.D2Kr2, 0):
-		// At Se = 1 with 1 < n2 < 2: f'' = −(G kr1 + R) kr2''/D.
-		return f, df, math.Copysign(math.Inf(1), -(g*v.Kr1 + r))
+	if math.IsInf(v.D2Kr1, 0) || math.IsInf(v.D2Kr2, 0) {
+		// The slopes are finite, so df above is exact; only f'' needs its
+		// limit.
+		_, d2f = ff.endLimits(v)
+		return f, df, d2f
 	}
 	d2n := v.D2Kr1*(1-g*v.Kr2) - 2*g*v.DKr1*v.DKr2 - g*v.Kr1*v.D2Kr2
 	d2d := v.D2Kr1 + r*v.D2Kr2
@@ -112,15 +112,88 @@ func (ff *FracFlow) combine(v RelPermValue) (f, df, d2f float64) {
 	return f, df, d2f
 }
 
-// infSlope returns the sign-correct infinite slope of f at an end point
-// where one curve's slope is infinite. At Se = 0 (kr1 = 0, kr1' = +Inf),
-// f' = kr1'(1 − G kr2)/D; at Se = 1 (kr2 = 0, kr2' = −Inf),
-// f' = −(G kr1 + R) kr2'/kr1.
-func (ff *FracFlow) infSlope(v RelPermValue) float64 {
-	if math.IsInf(v.DKr1, 0) {
-		return math.Copysign(math.Inf(1), 1-ff.G*v.Kr2)
+// endLimits returns the one-sided limits of f' and f″ at an end point of
+// the mobile range where a derivative of the curves is infinite. The
+// formulas of [FracFlow.Eval] then hold terms 0·Inf whose limits follow
+// from the power-law behaviour of the curves there (Corey and LET: the
+// phase at its residual goes like x^L, the other like c − b·x^T, x the
+// distance to the end point in Se), worked out below.
+//
+// At Se = 0 (kr1 = 0, D = R kr2): f = kr1·g with g = (1 − G kr2)/D, so
+//
+//	f'  = kr1' g + kr1 g'
+//	f'' = kr1'' g + 2 kr1' g' + kr1 g''
+//	g'  = [−G kr2' D − (1 − G kr2)(kr1' + R kr2')]/D².
+//
+// With kr1 ~ x^L1 and kr2' ~ x^(T2−1), the terms with kr1 are of order
+// x^(L1+T2−1) against kr1' ~ x^(L1−1) in f', so f' = kr1' g. In f″ the
+// term kr1″ g ~ x^(L1−2) dominates whenever kr1″ is infinite; otherwise
+// (L1 = 1 or L1 ≥ 2) the rest is 2 kr1' g' (kr1 g″ ~ x^(L1+T2−2) → 0 for
+// L1 ≥ 2, and is of the order of 2 kr1' g' for L1 = 1), infinite when
+// kr1' > 0 and kr2' = −Inf, where g' → −R kr2'/D² = +Inf: f″ = +Inf.
+// (For L1 = 1 the two terms add to kr1' g'·(1 + T2) > 0 in the expansion.)
+//
+// At Se = 1 (kr2 = 0, D = kr1): f = 1 − kr2·h with h = (R + G kr1)/D, so
+//
+//	f'  = −(kr2' h + kr2 h')
+//	f'' = −(kr2'' h + 2 kr2' h' + kr2 h'')
+//	h'  = −R [kr1'(1 − G kr2) + (R + G kr1) kr2']/D².
+//
+// The kr1' terms cancel in f' (kr2 h' ~ x^(L2+T1−1) against kr2' h ~
+// x^(L2−1)), leaving f' = −kr2' h = −(G kr1 + R) kr2'/kr1. In f″ the term
+// −kr2″ h dominates whenever kr2″ is infinite; otherwise it is
+// −kr2″ h − 2 kr2' h', which is −Inf when kr2' < 0 is finite (L2 = 1) and
+// kr1' = +Inf (T1 < 1), where h' → −R kr1'/D² = −Inf.
+//
+// Elsewhere an infinite slope breaks the [RelPerm] contract, and both
+// results are NaN.
+func (ff *FracFlow) endLimits(v RelPermValue) (df, d2f float64) {
+	g, r := ff.G, ff.R
+	switch {
+	case v.Kr1 == 0 && v.Kr2 > 0:
+		d := r * v.Kr2
+		gv := (1 - g*v.Kr2) / d
+		df = mulLimit(v.DKr1, gv)
+		if math.IsInf(v.D2Kr1, 0) {
+			return df, mulLimit(v.D2Kr1, gv)
+		}
+		var cross float64
+		switch {
+		case v.DKr1 == 0:
+		case math.IsInf(v.DKr2, 0):
+			cross = mulLimit(v.DKr1, -v.DKr2)
+		default:
+			gd := (-g*v.DKr2*d - (1-g*v.Kr2)*(v.DKr1+r*v.DKr2)) / (d * d)
+			cross = 2 * v.DKr1 * gd
+		}
+		return df, v.D2Kr1*gv + cross
+	case v.Kr2 == 0 && v.Kr1 > 0:
+		h := (r + g*v.Kr1) / v.Kr1
+		df = -mulLimit(v.DKr2, h)
+		if math.IsInf(v.D2Kr2, 0) {
+			return df, -mulLimit(v.D2Kr2, h)
+		}
+		var cross float64
+		switch {
+		case v.DKr2 == 0:
+		case math.IsInf(v.DKr1, 0):
+			cross = mulLimit(v.DKr2, v.DKr1)
+		default:
+			hd := -r * (v.DKr1*(1-g*v.Kr2) + (r+g*v.Kr1)*v.DKr2) / (v.Kr1 * v.Kr1)
+			cross = -2 * v.DKr2 * hd
+		}
+		return df, -v.D2Kr2*h + cross
 	}
-	return math.Copysign(math.Inf(1), ff.G*v.Kr1+ff.R)
+	return math.NaN(), math.NaN()
+}
+
+// mulLimit returns a·b, taking 0·Inf as 0: at an end point a vanishing
+// factor decides the limit (a zero slope or a zero coefficient).
+func mulLimit(a, b float64) float64 {
+	if a == 0 || b == 0 {
+		return 0
+	}
+	return a * b
 }
 
 // Slope returns f'(S).
@@ -132,29 +205,67 @@ func (ff *FracFlow) Slope(s float64) float64 {
 // InletSaturation returns S_b, the inlet state of the flux boundary
 // condition f(S_b) = 1 (DESIGN §2): the smallest saturation above s1_init
 // where f reaches 1, which is 1 − s2r unless gravity lifts f to 1 earlier.
+// p supplies s1_init; the curves are ff.Rel's.
 //
 // Derivation: f ≥ 1 ⇔ kr1(1 − G kr2) ≥ kr1 + R kr2 ⇔ −G kr1 kr2 ≥ R kr2, so
 // for kr2 > 0 this needs G < 0 and kr1 ≥ R/|G|. For Corey curves
 // kr1 = Kr1Max·Se^N1 gives the crossing in closed form,
-// Se_b = (R/(|G| Kr1Max))^(1/N1), when that is below one.
+// Se_b = (R/(|G| Kr1Max))^(1/N1), when that is below one. For other curves
+// (kr1 non-decreasing, kr2 > 0 below 1 − s2r) S_b is the smallest S with
+// kr1(S) ≥ R/|G|, found by bisection on kr1 to the last bit of S.
 func InletSaturation(p *Params, ff *FracFlow) float64 {
-	s1r, s2r := p[S1r], p[S2r]
-	top := 1 - s2r
-	if ff.G >= 0 {
-		return top
-	}
-	x := ff.R / (-ff.G * p[Kr1Max])
-	if x >= 1 {
-		return top
-	}
-	seb := fastExp(float64(fastLog(x) / p[N1]))
-	sb := s1r + seb*(1-s1r-s2r)
-	if sb > top {
-		sb = top
+	var sb float64
+	if c, ok := ff.Rel.(*Corey); ok {
+		top := 1 - c.S2r
+		if ff.G >= 0 {
+			return top
+		}
+		x := ff.R / (-ff.G * c.Kr1Max)
+		if x >= 1 {
+			return top
+		}
+		seb := fastExp(float64(fastLog(x) / c.N1))
+		sb = c.S1r + seb*(1-c.S1r-c.S2r)
+		if sb > top {
+			sb = top
+		}
+	} else {
+		s1r, s2r := ff.Rel.Residuals()
+		top := 1 - s2r
+		if ff.G >= 0 {
+			return top
+		}
+		sb = liftedInlet(ff.Rel, ff.R/-ff.G, max(p[S1Init], s1r), top)
 	}
 	if sb <= p[S1Init] {
 		// The initial state already flows at f ≥ 1; the caller rejects it.
 		return p[S1Init]
 	}
 	return sb
+}
+
+// liftedInlet returns the smallest S in [lo, top] with kr1(S) ≥ c, or top
+// when kr1 stays below c before top, by bisection: kr1 is non-decreasing,
+// so {S : kr1(S) ≥ c} is an interval ending at top. The loop halves
+// [lo, hi] until no double lies between them (at most about 1100 halvings
+// in theory, about 55 for the saturations that occur).
+func liftedInlet(rel RelPerm, c, lo, top float64) float64 {
+	if rel.Eval(lo).Kr1 >= c {
+		return lo
+	}
+	hi := top
+	if rel.Eval(math.Nextafter(top, lo)).Kr1 < c {
+		return top
+	}
+	for {
+		mid := lo + 0.5*(hi-lo)
+		if mid <= lo || mid >= hi {
+			return hi
+		}
+		if rel.Eval(mid).Kr1 >= c {
+			hi = mid
+		} else {
+			lo = mid
+		}
+	}
 }

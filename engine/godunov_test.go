@@ -215,6 +215,13 @@ func massBalanceCases() []map[Param]float64 {
 // at a residual), which the double-exponential change of variables
 // integrates to near machine precision.
 func integrateProfile(sol *Solution, tD float64) float64 {
+	return integrateProfileAt(sol, tD, nil)
+}
+
+// integrateProfileAt is integrateProfile with the profile also split where
+// the saturation passes one of kinks: knots of tabulated curves, where f″
+// jumps and so does the slope of S(x) inside a fan.
+func integrateProfileAt(sol *Solution, tD float64, kinks []float64) float64 {
 	breaks := []float64{0, 1}
 	for _, p := range sol.Pieces() {
 		for _, v := range []float64{p.SpeedLo, p.SpeedHi} {
@@ -223,6 +230,13 @@ func integrateProfile(sol *Solution, tD float64) float64 {
 			}
 		}
 		if !p.Shock {
+			for _, sk := range kinks {
+				if sk > p.Lo && sk < p.Hi {
+					if x := sol.Flow.Slope(sk) * tD; x > 0 && x < 1 {
+						breaks = append(breaks, x)
+					}
+				}
+			}
 			// Split each fan where S steps by 1/64 of its range: with an
 			// exponent near one, S(x) can fall almost like a step inside
 			// a fan, and the breaks keep each piece of the integrand tame.

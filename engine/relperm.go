@@ -9,7 +9,8 @@ import "math"
 // S1r() kr1 is zero, at and above 1 − S2r() kr2 is zero.
 //
 // Derivatives may be +Inf or −Inf at the residual end points (a Corey
-// exponent below one has an infinite slope there); callers handle that.
+// exponent, or a LET L or T, below one has an infinite slope there);
+// callers handle that. Implementations: [Corey], [LET], [ScaledTable].
 type RelPerm interface {
 	Eval(s float64) RelPermValue
 	Residuals() (s1r, s2r float64)

@@ -114,8 +114,9 @@ func (sol *Solution) f(s float64) float64 {
 
 // FrontSpeed returns the envelope's slope at s1_init: the speed of the
 // leading shock, or of the fan's leading edge when the solution starts with
-// a fan. It is +Inf when f'(s1_init) is infinite (a Corey exponent n1 < 1
-// with s1_init = s1r), in which case breakthrough is immediate.
+// a fan. It is +Inf when f'(s1_init) is infinite (a Corey exponent n1 < 1,
+// or a LET L1 < 1, with s1_init = s1r), in which case breakthrough is
+// immediate.
 func (sol *Solution) FrontSpeed() float64 {
 	if sol.n == 0 {
 		return math.NaN()

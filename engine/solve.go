@@ -41,6 +41,20 @@ func SolveModel(m *Model, p Params) (*Solution, error) {
 // The parameters the model derives (see [Model.Resolve]) are resolved in
 // sol.Params; p itself is not changed.
 func (s *Solver) Solve(p *Params, sol *Solution) error {
+	return s.solve(p, nil, sol)
+}
+
+// solveRel is Solve with the relative permeabilities rel in place of the
+// curves the model builds from p: the residuals, initial state and inlet
+// state come from rel, everything else (s1_init, viscosities, gravity)
+// from p, which must still pass the model's validity rules. rel must stay
+// unchanged while sol is in use.
+func (s *Solver) solveRel(p *Params, rel RelPerm, sol *Solution) error {
+	return s.solve(p, rel, sol)
+}
+
+// solve is Solve with the curves rel, or the model's when rel is nil.
+func (s *Solver) solve(p *Params, rel RelPerm, sol *Solution) error {
 	sol.Params = *p
 	sol.n = 0
 	sol.Err = nil
@@ -52,10 +66,13 @@ func (s *Solver) Solve(p *Params, sol *Solution) error {
 		sol.Err = err
 		return err
 	}
-	sol.Flow = FracFlow{Rel: sol.curves(m), R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
+	if rel == nil {
+		rel = sol.curves(m)
+	}
+	sol.Flow = FracFlow{Rel: rel, R: p[Mu1CP] / p[Mu2CP], G: GravityNumber(p)}
 	sol.cf.set(&sol.Flow)
 	sol.Init = p[S1Init]
-	if s1r := p[S1r]; sol.Init < s1r && s1r-sol.Init <= initSnap {
+	if s1r, _ := rel.Residuals(); sol.Init < s1r && s1r-sol.Init <= initSnap {
 		// Below s1r by less than double precision can resolve against the
 		// curves' end-point slope: the same case as s1_init = s1r.
 		sol.Init = s1r
@@ -127,10 +144,21 @@ func (r *Result) StatusText() string {
 // reusing their storage when it is large enough, so a Result reused across
 // calls makes SolveCase allocation-free for valid cases.
 func (s *Solver) SolveCase(p *Params, pvi []float64, cutLimit float64, r *Result) {
+	err := s.Solve(p, &s.sol)
+	s.fillResult(err, pvi, cutLimit, r)
+}
+
+// solveCaseRel is SolveCase with the curves rel (see [Solver.solveRel]).
+func (s *Solver) solveCaseRel(p *Params, rel RelPerm, pvi []float64, cutLimit float64, r *Result) {
+	err := s.solveRel(p, rel, &s.sol)
+	s.fillResult(err, pvi, cutLimit, r)
+}
+
+// fillResult fills r from the solution in s.sol, whose Solve returned err.
+func (s *Solver) fillResult(err error, pvi []float64, cutLimit float64, r *Result) {
 	r.RecoveryAt = resize(r.RecoveryAt, len(pvi))
 	r.CutAt = resize(r.CutAt, len(pvi))
 	sol := &s.sol
-	err := s.Solve(p, sol)
 	defer s.volumes(pvi, r)
 	r.Status = sol.Status
 	r.Rule = ""
