@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"html/template"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -215,7 +216,7 @@ func modelFacts(st *studies.Study) []fact {
 			ends = "with the end points the study gives re-scaled and the others at each sample's own"
 		}
 		out = append(out, fact{"relative permeability", "measured curves from " + st.Relperm.Table + " (copy: " + TableFile +
-			"), monotone piecewise-cubic interpolation (Fritsch & Carlson 1980), " + ends + "; rock samples " + strings.Join(names, ", ")})
+			"), monotone piecewise-cubic interpolation (Fritsch & Carlson 1980; Fritsch & Butland 1984 slopes), " + ends + "; rock samples " + strings.Join(names, ", ")})
 	}
 	v := m.Volumes
 	if v == nil {
@@ -292,6 +293,7 @@ func (d *reportData) Phrase(name string) string { return words{d.Study}.output(n
 
 var reportTemplate = template.Must(template.New("report").Funcs(template.FuncMap{
 	"num":   fmtNum,
+	"card":  cardNum,
 	"count": groupDigits,
 	"pct":   func(v float64) string { return strconv.FormatFloat(100*v, 'g', 3, 64) },
 	"lower": lowerFirst,
@@ -384,7 +386,7 @@ footer { margin-top: 2.5rem; padding-top: 0.6rem; border-top: 1px solid var(--ru
 <h2>Key figures</h2>
 <div class="cards">
 {{range .Headline}}<div class="card"><h3>{{.Title}}</h3>
-<div class="trio"><div><span class="v">{{num .P90}}</span><span class="k">P90</span></div><div><span class="v">{{num .P50}}</span><span class="k">P50</span></div><div><span class="v">{{num .P10}}</span><span class="k">P10</span></div></div>
+<div class="trio"><div><span class="v">{{card .P90}}</span><span class="k">P90</span></div><div><span class="v">{{card .P50}}</span><span class="k">P50</span></div><div><span class="v">{{card .P10}}</span><span class="k">P10</span></div></div>
 <p class="unit">{{.Unit}} · {{count .N}} cases</p></div>
 {{end}}</div>
 </section>{{end}}
@@ -488,6 +490,18 @@ func fmtNum(v float64) string {
 		return s
 	}
 	return strconv.FormatFloat(v, 'g', 4, 64)
+}
+
+// cardNum formats a key figure: as fmtNum, except that values from 10⁴ to
+// 10¹⁵ are rounded to four significant digits and printed whole with
+// thousands separators (6,352,000 rather than 6.352e+06).
+func cardNum(v float64) string {
+	a := math.Abs(v)
+	if math.IsNaN(v) || a < 1e4 || a >= 1e15 {
+		return fmtNum(v)
+	}
+	r, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 4, 64), 64)
+	return groupDigits(int(r))
 }
 
 // writeReport computes the charts of the study folder dir from its cases
