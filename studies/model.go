@@ -3,6 +3,7 @@ package studies
 import (
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -92,7 +93,18 @@ func defaultTableReader(studyFile string) TableReader {
 		if !filepath.IsAbs(path) {
 			path = filepath.Join(filepath.Dir(studyFile), name)
 		}
-		data, err := os.ReadFile(path)
+		f, err := os.Open(path)
+		if err != nil {
+			return path, nil, err
+		}
+		defer f.Close()
+		if fi, err := f.Stat(); err != nil {
+			return path, nil, err
+		} else if !fi.Mode().IsRegular() {
+			return path, nil, fmt.Errorf("not a regular file")
+		}
+		// One byte more than allowed tells a file that is too large.
+		data, err := io.ReadAll(io.LimitReader(f, MaxFileSize+1))
 		return path, data, err
 	}
 }

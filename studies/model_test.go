@@ -239,3 +239,16 @@ func TestParseTableErrors(t *testing.T) {
 		t.Errorf("n1 in a table study: %s", listText(err))
 	}
 }
+
+// TestParseTableNotAFile: a table path that is a folder or a device is
+// refused with a message, not read (a device could be endless).
+func TestParseTableNotAFile(t *testing.T) {
+	t.Parallel()
+	for _, name := range []string{"/dev/zero", "scal"} {
+		path := writeTable(t, strings.Replace(tableStudy, "scal/curves.csv", name, 1), tableCSV)
+		_, err := Load(path)
+		if err == nil || !strings.Contains(listText(err), "cannot read "+name+": not a regular file") {
+			t.Errorf("%s: %s", name, listText(err))
+		}
+	}
+}
