@@ -1,8 +1,11 @@
 package batch
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
+	"hash"
 	"io"
 	"math"
 	"os"
@@ -81,9 +84,11 @@ func field(name string, typ arrow.DataType, unit string) arrow.Field {
 }
 
 // ipcWriter is an Arrow IPC file being written record batch by record
-// batch into an atomic file.
+// batch into an atomic file. The bytes are hashed as they are written, so
+// that run.json's SHA-256 of a large file needs no second reading.
 type ipcWriter struct {
 	file *atomicFile
+	hw   *hashingWriter
 	w    *ipc.FileWriter
 	b    *array.RecordBuilder
 }
@@ -93,12 +98,38 @@ func newIPCWriter(path string, schema *arrow.Schema, mem memory.Allocator) (*ipc
 	if err != nil {
 		return nil, err
 	}
-	w, err := ipc.NewFileWriter(f, ipc.WithSchema(schema), ipc.WithAllocator(mem))
+	hw := &hashingWriter{f: f.File, h: sha256.New()}
+	w, err := ipc.NewFileWriter(hw, ipc.WithSchema(schema), ipc.WithAllocator(mem))
 	if err != nil {
 		f.Abort()
 		return nil, fmt.Errorf("writing %s: %w", path, err)
 	}
-	return &ipcWriter{file: f, w: w, b: array.NewRecordBuilder(mem, schema)}, nil
+	return &ipcWriter{file: f, hw: hw, w: w, b: array.NewRecordBuilder(mem, schema)}, nil
+}
+
+// sha256 returns the lower-case hex SHA-256 of the bytes written, the
+// whole file once committed.
+func (iw *ipcWriter) sha256() string { return hex.EncodeToString(iw.hw.h.Sum(nil)) }
+
+// hashingWriter writes to a file from its start, hashing every byte. The
+// Arrow file writer only asks it for its position (Seek(0,
+// io.SeekCurrent)); any other seek would break the hash and is refused.
+type hashingWriter struct {
+	f *os.File
+	h hash.Hash
+}
+
+func (w *hashingWriter) Write(p []byte) (int, error) {
+	n, err := w.f.Write(p)
+	w.h.Write(p[:n])
+	return n, err
+}
+
+func (w *hashingWriter) Seek(offset int64, whence int) (int64, error) {
+	if offset != 0 || whence != io.SeekCurrent {
+		return 0, errors.New("batch: an Arrow file is written in order")
+	}
+	return w.f.Seek(0, io.SeekCurrent)
 }
 
 // flush writes the rows appended to the builder as one record batch.

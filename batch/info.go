@@ -28,6 +28,11 @@ type Info struct {
 	// Skipped is set in the Info Run returns when Options.Resume found
 	// the outputs complete and kept them.
 	Skipped bool `json:"-"`
+
+	// casesSHA256 is the SHA-256 of cases.arrow when it was hashed as it
+	// was written, "" otherwise (run.json's sums are then read from the
+	// files).
+	casesSHA256 string
 }
 
 // Caution is the statement every report and run.json carries.

@@ -181,6 +181,10 @@ type reportData struct {
 	Curves     []summarize.CurveRow
 	Keys       map[string]bool // outputs whose tornado is shown
 
+	// stats are the column statistics the summaries computed, which the
+	// charts reuse; nil when the report is rebuilt from the files.
+	stats *caseStats
+
 	// Filled by writeReport.
 	Builder   string // version of the program writing the report
 	Charts    *chartData

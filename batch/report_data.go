@@ -167,9 +167,16 @@ func tornadoCharts(rows []summarize.TornadoRow, st *studies.Study) []tornadoChar
 // reorders col (summarize.Describe sorts the valid values to its front).
 func newExceedance(name string, col []float64, conv summarize.Convention) exceedance {
 	s := summarize.Describe(col, conv)
-	sorted := col[:s.N]
-	e := exceedance{Output: name, N: s.N, Rejected: s.NRejected}
-	if s.N == 0 {
+	return newExceedanceSorted(name, col[:s.N], s.NRejected, conv)
+}
+
+// newExceedanceSorted returns the exceedance curve of an output column
+// from its valid values sorted in increasing order and its count of
+// rejected (NaN) values.
+func newExceedanceSorted(name string, sorted []float64, rejected int, conv summarize.Convention) exceedance {
+	n := len(sorted)
+	e := exceedance{Output: name, N: n, Rejected: rejected}
+	if n == 0 {
 		return e
 	}
 	p90, p50, p10 := summarize.Percentiles(sorted, conv)
@@ -180,7 +187,7 @@ func newExceedance(name string, col []float64, conv summarize.Convention) exceed
 		e.Marks = append(e.Marks, mark{Label: pName(labels[k]), Value: v, Exceed: 1 - q})
 		qs = append(qs, q)
 	}
-	m := min(s.N, MaxCurvePoints)
+	m := min(n, MaxCurvePoints)
 	for k := range m {
 		if m == 1 {
 			qs = append(qs, 0)
@@ -198,22 +205,6 @@ func newExceedance(name string, col []float64, conv summarize.Convention) exceed
 }
 
 func pName(label float64) string { return fmt.Sprintf("P%g", label) }
-
-// nearestCases returns, for each target, the first row of col whose value
-// is nearest it (NaN rows never chosen); -1 when col has no valid value.
-func nearestCases(col []float64, targets []float64) []int {
-	idx := make([]int, len(targets))
-	for k, t := range targets {
-		best, bestD := -1, math.Inf(1)
-		for i, v := range col {
-			if d := math.Abs(v - t); d < bestD {
-				best, bestD = i, d
-			}
-		}
-		idx[k] = best
-	}
-	return idx
-}
 
 // histogramBins returns the number of equal bins of a continuous histogram
 // of n values: the Rice rule ⌈2·n^(1/3)⌉ (common practice), kept within
@@ -350,96 +341,115 @@ func scanFloat64(path string, mem memory.Allocator, names []string, fn func(star
 }
 
 // computeCharts reads the cases file of dir and the summary tables of d
-// and returns the data behind every chart. It holds at most two columns of
-// cases at a time, plus the first CorrelationMaxRows cases of each
-// uncertain input for the rank-correlation matrix.
+// and returns the data behind every chart. The column statistics come
+// from d.stats when the summaries computed them in the same run;
+// otherwise they are computed here from the cases file, one column at a
+// time (see computeCaseStats), holding one column plus the first
+// CorrelationMaxRows cases of each uncertain input.
 func computeCharts(ctx context.Context, dir string, st *studies.Study, design *sampler.Design, d *reportData, mem memory.Allocator, progress func()) (*chartData, error) {
 	conv, err := summarize.ParseConvention(st.Report.Percentiles)
 	if err != nil {
 		return nil, err
 	}
-	path := filepath.Join(dir, CasesFile)
-	column := func(name string) ([]float64, error) {
-		// One column at a time, into a slice of the run's size, so that
-		// reading it makes no garbage of its own.
-		col := make([]float64, 0, max(d.Info.Cases, 0))
-		err := scanFloat64(path, mem, []string{name}, func(_ int, cols [][]float64) error {
-			col = append(col, cols[0]...)
-			return nil
-		})
-		if err != nil {
-			return nil, err
-		}
-		progress()
-		return col, ctx.Err()
-	}
-	pvi := st.Report.PVI
-	cd := &chartData{Conv: conv, Tornado: tornadoCharts(d.Tornado, st)}
-
-	col, err := column(engine.ColBreakthroughPVI)
+	cf, err := openColumnFile(filepath.Join(dir, CasesFile), mem)
 	if err != nil {
 		return nil, err
 	}
-	total := len(col)
-	bt := newExceedance(engine.ColBreakthroughPVI, col, conv)
-	cd.Exceed = append(cd.Exceed, bt)
-	if st.Model().Volumes != nil {
-		for _, name := range []string{engine.ColBreakthroughDays, engine.ColProducedAtCutLimit} {
-			c, err := column(name)
-			if err != nil {
-				return nil, err
-			}
-			cd.Exceed = append(cd.Exceed, newExceedance(name, c, conv))
-		}
-	}
-
-	// The key recovery: at the cut limit, unless no case reaches it.
-	key := engine.ColRecoveryAtCutLimit
-	col, err = column(key)
-	if err != nil {
-		return nil, err
-	}
-	if len(pvi) > 0 && !slices.ContainsFunc(col, func(v float64) bool { return !math.IsNaN(v) }) {
-		key = engine.CheckpointColumn("recovery", pvi[len(pvi)-1])
-		if col, err = column(key); err != nil {
-			return nil, err
-		}
-	}
-	cd.KeyRecovery = key
-	rec := newExceedance(key, slices.Clone(col), conv)
-	cd.Exceed = append(cd.Exceed, rec)
-	var targets []float64
-	for _, m := range rec.Marks {
-		targets = append(targets, m.Value)
-	}
-	for k, r := range nearestCases(col, targets) {
-		if r >= 0 {
-			m := rec.Marks[k]
-			cd.Cases = append(cd.Cases, pCase{Label: m.Label, Target: m.Value, Case: r, Value: col[r]})
-		}
-	}
-	col = nil
-
-	for _, x := range checkpointsShown(pvi) {
-		name := engine.CheckpointColumn("recovery", x)
-		c, err := column(name)
-		if err != nil {
-			return nil, err
-		}
-		cd.Checkpoints = append(cd.Checkpoints, newExceedance(name, c, conv))
-	}
-
+	defer cf.close()
 	in, err := summarize.NewInputs(st, design)
 	if err != nil {
 		return nil, err
 	}
-	if err := cd.scanInputs(path, st, design, in, total, mem); err != nil {
+	stats := d.stats
+	if stats == nil {
+		rows, err := cf.numRows()
+		if err != nil {
+			return nil, err
+		}
+		plan := reportPlan(st, design, in, conv, rows)
+		if stats, err = computeCaseStats(ctx, cf, plan, 1, func() {}); err != nil {
+			return nil, err
+		}
+	}
+	// Progress: one step per exceedance curve and two for the inputs.
+	pvi := st.Report.PVI
+	cd := &chartData{Conv: conv, Tornado: tornadoCharts(d.Tornado, st)}
+	bt := stats.exceed[engine.ColBreakthroughPVI]
+	cd.Exceed = append(cd.Exceed, bt)
+	if st.Model().Volumes != nil {
+		cd.Exceed = append(cd.Exceed, stats.exceed[engine.ColBreakthroughDays], stats.exceed[engine.ColProducedAtCutLimit])
+	}
+	progress()
+	// The key recovery: at the cut limit, unless no case reaches it.
+	key := engine.ColRecoveryAtCutLimit
+	if len(pvi) > 0 && stats.exceed[key].N == 0 {
+		key = engine.CheckpointColumn("recovery", pvi[len(pvi)-1])
+	}
+	cd.KeyRecovery = key
+	rec := stats.exceed[key]
+	cd.Exceed = append(cd.Exceed, rec)
+	if err := cd.nearestCases(cf, key, rec.Marks); err != nil {
 		return nil, err
+	}
+	progress()
+	for _, x := range checkpointsShown(pvi) {
+		cd.Checkpoints = append(cd.Checkpoints, stats.exceed[engine.CheckpointColumn("recovery", x)])
+		progress()
+	}
+	if names := in.Names(); len(names) >= 2 {
+		cd.Corr = rankCorrelations(names, stats.corrRanks, st, stats.rows)
+	}
+	cd.Hist = stats.hist
+	params := st.Model().Params()
+	all := make([]string, len(params))
+	for j, p := range params {
+		all[j] = p.String()
+	}
+	for i := range cd.Cases {
+		c := &cd.Cases[i]
+		vals, err := cf.at(all, c.Case)
+		if err != nil {
+			return nil, err
+		}
+		for j, p := range params {
+			c.Params[p] = vals[j]
+		}
 	}
 	progress()
 	progress()
 	cd.solveCases(st.Model(), bt)
 	return cd, ctx.Err()
+}
+
+// nearestCases sets cd.Cases to the first case of column key nearest each
+// mark's value (NaN values never chosen), in one pass over the column.
+func (cd *chartData) nearestCases(cf *columnFile, key string, marks []mark) error {
+	best := make([]int, len(marks))
+	bestD := make([]float64, len(marks))
+	value := make([]float64, len(marks))
+	for k := range marks {
+		best[k], bestD[k] = -1, math.Inf(1)
+	}
+	err := cf.scan(key, 0, func(start int, vals []float64) error {
+		for k, m := range marks {
+			t := m.Value
+			for i, v := range vals {
+				if d := math.Abs(v - t); d < bestD[k] {
+					best[k], bestD[k], value[k] = start+i, d, v
+				}
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	for k, m := range marks {
+		if best[k] >= 0 {
+			cd.Cases = append(cd.Cases, pCase{Label: m.Label, Target: m.Value, Case: best[k], Value: value[k]})
+		}
+	}
+	return nil
 }
 
 // checkpointsShown returns the checkpoints whose recovery exceedance
@@ -456,70 +466,14 @@ func checkpointsShown(pvi []float64) []float64 {
 	return slices.Compact(out)
 }
 
-// scanInputs reads the uncertain inputs: the first CorrelationMaxRows
-// cases for the rank correlations (a partial pass), then every case for
-// the histograms, picking up the parameters of the P cases on the way.
-func (cd *chartData) scanInputs(path string, st *studies.Study, design *sampler.Design, in *summarize.Inputs, total int, mem memory.Allocator) error {
-	names := in.Names()
-	d := len(names)
-	if d >= 2 {
-		head := make([][]float64, d)
-		err := scanFloat64(path, mem, names, func(start int, cols [][]float64) error {
-			if start >= CorrelationMaxRows {
-				return errStopScan
-			}
-			for k, c := range cols {
-				head[k] = append(head[k], c[:min(len(c), CorrelationMaxRows-start)]...)
-			}
-			return nil
-		})
-		if err != nil {
-			return err
-		}
-		cd.Corr = rankCorrelations(names, head, st, total)
-	}
-	specs := st.Specs()
-	for _, l := range in.Leaders {
-		cd.Hist = append(cd.Hist, newHistogram(l.Param, specs[l.Param], design.Dist(int(l.Param)), int64(total)))
-	}
-
-	params := st.Model().Params()
-	all := make([]string, len(params))
-	colOf := make(map[engine.Param]int, len(params))
-	for j, p := range params {
-		all[j] = p.String()
-		colOf[p] = j
-	}
-	return scanFloat64(path, mem, all, func(start int, cols [][]float64) error {
-		for k, l := range in.Leaders {
-			h := &cd.Hist[k]
-			for _, v := range cols[colOf[l.Param]] {
-				h.add(v)
-			}
-		}
-		end := start + len(cols[0])
-		for i := range cd.Cases {
-			c := &cd.Cases[i]
-			if c.Case >= start && c.Case < end {
-				for j, p := range params {
-					c.Params[p] = cols[j][c.Case-start]
-				}
-			}
-		}
-		return nil
-	})
-}
-
-// rankCorrelations returns the Spearman matrix of the columns: Pearson
-// correlations (gonum stat.Correlation) of their mid-ranks
-// (summarize.Ranks).
-func rankCorrelations(names []string, cols [][]float64, st *studies.Study, total int) *rankMatrix {
+// rankCorrelations returns the Spearman matrix of columns from their
+// mid-ranks (summarize.Ranks of each): Pearson correlations (gonum
+// stat.Correlation) of the ranks.
+func rankCorrelations(names []string, ranks [][]float64, st *studies.Study, total int) *rankMatrix {
 	d := len(names)
 	m := &rankMatrix{Names: names, Rho: make([][]float64, d), Target: map[[2]int]float64{}, Total: total}
-	ranks := make([][]float64, d)
-	for k, c := range cols {
-		ranks[k] = summarize.Ranks(c)
-		m.N = len(c)
+	for _, r := range ranks {
+		m.N = len(r)
 	}
 	for i := range d {
 		m.Rho[i] = make([]float64, d)

@@ -181,10 +181,11 @@ func Run(ctx context.Context, st *studies.Study, opt Options) (*Info, error) {
 	start := r.now()
 	info := r.info
 	info.Started = start.UTC().Format(time.RFC3339)
-	rejected, err := writeCases(ctx, st, r.design, filepath.Join(r.stage, CasesFile), 0, st.Cases, r.workers, r.opt, r.mem)
+	rejected, sum, err := writeCases(ctx, st, r.design, filepath.Join(r.stage, CasesFile), 0, st.Cases, r.workers, r.opt, r.mem)
 	if err != nil {
 		return nil, err
 	}
+	info.casesSHA256 = sum
 	solved := r.now()
 	info.Seconds["solve"] = solved.Sub(start).Seconds()
 	info.CasesPerSec = float64(st.Cases) / max(info.Seconds["solve"], 1e-9)
@@ -281,6 +282,10 @@ func (r *studyRun) finish(ctx context.Context, start, solved time.Time) error {
 	}
 	info.SHA256 = make(map[string]string, len(info.Files))
 	for _, f := range info.Files {
+		if f == CasesFile && info.casesSHA256 != "" {
+			info.SHA256[f] = info.casesSHA256
+			continue
+		}
 		sum, _, err := fileSHA256(filepath.Join(r.stage, f))
 		if err != nil {
 			return err
@@ -360,13 +365,14 @@ func swapIn(stage, final string) error {
 // writeCases samples and solves the cases [lo, hi) in parallel and streams
 // them in case order into an Arrow IPC file, in record batches of
 // opt.BatchRows cases starting at lo. It returns the count of rejected
-// cases by status. Memory is bounded by 2·workers record batches.
-func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator) (map[string]int, error) {
+// cases by status and the file's SHA-256 (lower-case hex). Memory is
+// bounded by 2·workers record batches.
+func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator) (map[string]int, string, error) {
 	outs := st.Model().Outputs(st.Report.PVI)
 	schema := casesSchema(st, outs)
 	w, err := newIPCWriter(path, schema, mem)
 	if err != nil {
-		return nil, err
+		return nil, "", err
 	}
 	committed := false
 	defer func() {
@@ -458,19 +464,19 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 	// cancellation: the write error is the cause and is returned first.
 	gerr := g.Wait()
 	if werr != nil {
-		return nil, werr
+		return nil, "", werr
 	}
 	if gerr != nil {
-		return nil, gerr
+		return nil, "", gerr
 	}
 	if err := ctx.Err(); err != nil {
-		return nil, err
+		return nil, "", err
 	}
 	committed = true
 	if err := w.commit(); err != nil {
-		return nil, err
+		return nil, "", err
 	}
-	return rejected, nil
+	return rejected, w.sha256(), nil
 }
 
 // appendChunk appends a solved chunk's rows to the record builder.

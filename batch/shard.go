@@ -378,15 +378,16 @@ func RunShard(ctx context.Context, st *studies.Study, opt Options) (*ShardManife
 	}
 
 	start := r.now()
-	rejected, err := writeCases(ctx, st, r.design, casesPath, lo, hi, r.workers, r.opt, r.mem)
+	rejected, sum, err := writeCases(ctx, st, r.design, casesPath, lo, hi, r.workers, r.opt, r.mem)
 	if err != nil {
 		return nil, err
 	}
 	solved := r.now()
-	sum, size, err := fileSHA256(casesPath)
+	fi, err := os.Stat(casesPath)
 	if err != nil {
 		return nil, err
 	}
+	size := fi.Size()
 	m := &ShardManifest{
 		Study: st.Name, Source: st.Source, StudyHash: st.Hash, Seed: st.Seed, Version: r.opt.Version,
 		Shard: sh.K, Shards: sh.N, Cases: st.Cases, First: lo, End: hi, Rows: hi - lo, BatchRows: rows,

@@ -8,7 +8,6 @@ import (
 
 	"github.com/apache/arrow/go/v17/arrow/memory"
 
-	"github.com/sweepstat/sweepstat/engine"
 	"github.com/sweepstat/sweepstat/sampler"
 	"github.com/sweepstat/sweepstat/studies"
 	"github.com/sweepstat/sweepstat/summarize"
@@ -16,8 +15,8 @@ import (
 
 // SpearmanMaxRows is the most cases the Spearman table uses: the first
 // SpearmanMaxRows of a larger run (their sampling error, about 1/√n, is
-// then below 0.001). It bounds the table's memory, which holds every
-// uncertain parameter's column at once.
+// then below 0.001). It bounds the table's memory, which holds the ranks
+// of every uncertain parameter at once (4 bytes per case each).
 const SpearmanMaxRows = 1_000_000
 
 // SobolBootstrap is the number of bootstrap resamples of the Sobol
@@ -33,8 +32,8 @@ const PercentileLevel = 0.95
 func sobolSeed(seed uint64) uint64 { return seed*0x9e3779b97f4a7c15 + 0x5b01 }
 
 // writeSummaries computes every summary table from the cases file in dir
-// (column by column, so memory is bounded by one column plus the Spearman
-// table's), writes them, and renders the report.
+// (in one pass per column, in parallel: see computeCaseStats), writes
+// them, and renders the report.
 func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, dir string, workers int, opt Options, mem memory.Allocator, info *Info) error {
 	casesPath := filepath.Join(dir, CasesFile)
 	conv, err := summarize.ParseConvention(st.Report.Percentiles)
@@ -46,13 +45,6 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 	for _, o := range st.Model().Outputs(pvi) {
 		outputs = append(outputs, o.Name)
 	}
-	// The summaries ask for the outputs in order, then the checkpoint
-	// columns again for the curves; read them in groups along that plan.
-	plan := append([]string(nil), outputs...)
-	for _, x := range pvi {
-		plan = append(plan, engine.CheckpointColumn("recovery", x), engine.CheckpointColumn("cut", x))
-	}
-	column := newColumnSource(casesPath, mem, st.Cases, 0, plan).column
 	data := &reportData{Info: info, Study: st, Convention: st.Report.Percentiles, Keys: keyOutputs(st)}
 	phase := func(name string, total int) func() {
 		if opt.Progress == nil {
@@ -61,31 +53,53 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 		opt.Progress.Start(st.Name, name, total)
 		return opt.Progress.Finish
 	}
-
-	done := phase("summaries", len(outputs)+2*len(pvi))
-	counted := func(name string) ([]float64, error) {
-		col, err := column(name)
-		if opt.Progress != nil {
-			opt.Progress.Add(1)
-		}
-		return col, err
-	}
-	data.Summary, err = summarize.SummaryTable(outputs, counted, conv, PercentileLevel)
-	if err == nil {
-		data.Curves, err = summarize.Curves(pvi, counted, conv)
-	}
-	done()
-	if err != nil {
-		return fmt.Errorf("summaries: %w", err)
-	}
-	if err := ctx.Err(); err != nil {
-		return err
-	}
-
 	in, err := summarize.NewInputs(st, d)
 	if err != nil {
 		return err
 	}
+
+	cf, err := openColumnFile(casesPath, mem)
+	if err != nil {
+		return fmt.Errorf("summaries: %w", err)
+	}
+	defer cf.close()
+	rows, err := cf.numRows()
+	if err != nil {
+		return fmt.Errorf("summaries: %w", err)
+	}
+	// The summaries, Spearman's ρ and the report's column statistics, one
+	// pass per column.
+	plan := reportPlan(st, d, in, conv, rows)
+	plan.level = PercentileLevel
+	plan.summary = outputs
+	plan.spearmanOutputs, plan.spearmanParams = outputs, in.Names()
+	done := phase("summaries", plan.numColumns())
+	step := func() {
+		if opt.Progress != nil {
+			opt.Progress.Add(1)
+		}
+	}
+	stats, err := computeCaseStats(ctx, cf, plan, workers, step)
+	done()
+	if err != nil {
+		return fmt.Errorf("summaries: %w", err)
+	}
+	data.stats = stats
+	for _, name := range outputs {
+		data.Summary = append(data.Summary, summarize.SummaryRow{Output: name, Stats: stats.summary[name]})
+	}
+	var ok bool
+	if data.Curves, ok = curvesFromSummary(pvi, stats.summary); !ok {
+		column := func(name string) ([]float64, error) { return cf.read(name, 0, nil) }
+		if data.Curves, err = summarize.Curves(pvi, column, conv); err != nil {
+			return fmt.Errorf("summaries: %w", err)
+		}
+	}
+	data.Spearman = stats.spearman
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+
 	done = phase("tornado", 2*len(in.Leaders)+1)
 	data.Tornado = summarize.Tornado(in, pvi, cut, st.Tornado.Low, st.Tornado.High)
 	if opt.Progress != nil {
@@ -93,14 +107,6 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 	}
 	done()
 
-	// Spearman reads the first SpearmanMaxRows cases only: the parameter
-	// columns first (all held at once), then each output.
-	spearmanPlan := append(in.Names(), outputs...)
-	spearmanColumn := newColumnSource(casesPath, mem, st.Cases, SpearmanMaxRows, spearmanPlan).column
-	data.Spearman, err = summarize.SpearmanTable(outputs, in.Names(), spearmanColumn)
-	if err != nil {
-		return fmt.Errorf("sensitivity: %w", err)
-	}
 	if n := st.Sensitivity.Sobol; n > 0 && len(in.Leaders) > 0 {
 		runs := n * (len(in.Leaders) + 2)
 		var progress func(int)

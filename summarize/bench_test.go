@@ -60,6 +60,22 @@ func BenchmarkRanks(b *testing.B) {
 	b.ReportMetric(float64(n)*float64(b.N)/b.Elapsed().Seconds(), "values/s")
 }
 
+// BenchmarkRank ranks the column of BenchmarkRanks once for everything
+// that needs its order (Ranking: sorted values, mid-ranks, Spearman).
+func BenchmarkRank(b *testing.B) {
+	n := 1_000_000
+	rng := newRand(102)
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = rng.NormFloat64()
+	}
+	var rk Ranker
+	for b.Loop() {
+		rk.Rank(x)
+	}
+	b.ReportMetric(float64(n)*float64(b.N)/b.Elapsed().Seconds(), "values/s")
+}
+
 // A study-sized Sobol analysis: 15 inputs, N = 20,000 (320,000 runs), 200
 // bootstrap resamples.
 func BenchmarkSobolIndices(b *testing.B) {

@@ -61,7 +61,11 @@
 // else, so a summary needs the memory of one column. [Ranks] and [Spearman]
 // run in O(n) time by radix sorting, with scratch of a few columns;
 // [SpearmanEach] correlates one output with many inputs ranking the output
-// once. [SobolIndices] holds its input plus one resample of it. [Sobol]
-// holds the outputs of all n·(d+2) runs, and [SpearmanTable] all the
-// parameter columns (their doc comments give the sizes).
+// once. A [Ranking] ([Rank], [Ranker]) sorts a column once for everything
+// that needs its order: its sorted values feed [DescribeSorted], its
+// ranks [SpearmanRankedEach] against many other rankings, its first rows
+// [Ranking.Head]; all bit for bit what the functions above give.
+// [SobolIndices] holds its input plus one resample of it. [Sobol] holds
+// the outputs of all n·(d+2) runs, and [SpearmanTable] all the parameter
+// columns (their doc comments give the sizes).
 package summarize

@@ -67,8 +67,30 @@ func DescribeLevel(values []float64, conv Convention, level float64) Stats {
 	}
 	x := values[:n]
 	sortFloats(x)
+	return describeSorted(x, len(values)-n, conv, level)
+}
 
-	s := Stats{Convention: conv, Level: level, N: n, NRejected: len(values) - n}
+// DescribeSorted returns the [Stats] of the valid values sorted and of
+// rejected NaN values more, under conv with percentile confidence
+// intervals at level: what [DescribeLevel] returns for the same values in
+// any order, bit for bit, without sorting them. (Only the relative order
+// of −0 and +0 is free in sorted, as in DescribeLevel's sort, so a Min,
+// Max, percentile or bound that falls on a zero may carry either sign.)
+//
+// sorted must be in increasing order and hold no NaN; neither is checked,
+// as for [Quantile]. DescribeSorted panics if rejected is negative, level
+// is outside (0, 1) or conv is neither convention.
+func DescribeSorted(sorted []float64, rejected int, conv Convention, level float64) Stats {
+	checkLevel(level)
+	if rejected < 0 {
+		panic("summarize: negative rejected count")
+	}
+	return describeSorted(sorted, rejected, conv, level)
+}
+
+func describeSorted(x []float64, rejected int, conv Convention, level float64) Stats {
+	n := len(x)
+	s := Stats{Convention: conv, Level: level, N: n, NRejected: rejected}
 	s.P90, s.P50, s.P10 = Percentiles(x, conv)
 	s.SwansonMean = 0.3*(s.P10+s.P90) + 0.4*s.P50
 	s.P90Low, s.P90High = QuantileInterval(x, conv.Prob(90), level)

@@ -1,0 +1,694 @@
+package summarize
+
+import (
+	"cmp"
+	"math"
+	"math/bits"
+	"slices"
+	"sync"
+)
+
+// Ranking is the sorted order and the mid-ranks of one column of values,
+// computed once by [Rank] and shared by everything that needs them: the
+// sorted values for the percentiles ([Ranking.Sorted]), the mid-ranks
+// ([Ranking.Ranks]), the ranks of the first rows only ([Ranking.Head]) and
+// Spearman's ρ against another ranked column ([SpearmanRanked],
+// [SpearmanRankedEach]), all bit for bit what [Ranks], [Spearman] and
+// [SpearmanEach] give on the values.
+//
+// A Ranking takes 8 bytes per value (a row index and a rank, 4 bytes
+// each) plus one bit per value when some are NaN. It is read-only once
+// built and safe for concurrent use.
+type Ranking struct {
+	n, m int // values, non-NaN values
+	// perm holds the rows of the non-NaN values in increasing order of
+	// value, tied values in row order; tieBit is set on an entry whose
+	// value equals the previous entry's.
+	perm []uint32
+	// twice holds, for each row, 2·(rank − (m+1)/2): twice its mid-rank's
+	// distance from the mean rank, an integer; 0 for a NaN row.
+	twice []int32
+	nan   []uint64 // bit i set when row i is NaN; nil when none is
+	sumSq float64  // Σ twice[i]², summed in row order
+
+	// compact is set by Compact: perm is rebuilt from twice, once, the
+	// first time it is needed.
+	compact bool
+	rebuild sync.Once
+}
+
+const (
+	tieBit  = 1 << 31
+	rowMask = tieBit - 1
+)
+
+// maxRankLen is the most values a Ranking holds (row indices and doubled
+// ranks fit 31 bits).
+const maxRankLen = 1<<31 - 2
+
+// Rank returns the [Ranking] of x: the mid-ranks 1…m of its m non-NaN
+// values (ties share the mean of the ranks they span; −0 and +0 tie),
+// with NaN values unranked, exactly as [Ranks].
+//
+// Rank sorts (value key, row) pairs packed into one uint64 each by a
+// radix sort over only the key bits that vary in x (Knuth 1998, TAOCP
+// vol. 3, §5.2.5, from memory): after subtracting the smallest key, the
+// top key bits that fit beside the row index (44 for a million values)
+// are kept, sorted first by their top byte into buckets that fit in
+// cache, then each bucket by its next bits and by insertion. Rows whose
+// kept bits agree but whose values differ are sorted again by their full
+// key. It runs in O(n) time for most data, O(n log n) at worst, with 16
+// bytes per value of scratch; a [Ranker] keeps that scratch between
+// calls.
+//
+// Rank panics if x holds more than 2^31 − 2 values.
+func Rank(x []float64) *Ranking {
+	var rk Ranker
+	return rk.Rank(x)
+}
+
+// Ranker ranks columns one after another ([Ranker.Rank]) reusing its
+// scratch memory. The zero value is ready to use; a Ranker is not safe
+// for concurrent use.
+type Ranker struct {
+	buf    []uint64
+	digits digitScratch
+	run    []keyed
+}
+
+// Rank returns the [Ranking] of x, as the function [Rank] does. The
+// Ranking does not share memory with the Ranker.
+func (rk *Ranker) Rank(x []float64) *Ranking { return rk.RankInto(nil, x) }
+
+// RankInto is [Ranker.Rank] storing the Ranking in dst, whose memory it
+// reuses (what dst held is overwritten), and returns dst; with a nil dst
+// it allocates a new Ranking. Reusing one Ranking for column after column
+// spares allocating and clearing 8 bytes per value each time.
+func (rk *Ranker) RankInto(dst *Ranking, x []float64) *Ranking {
+	n := len(x)
+	if n > maxRankLen {
+		panic("summarize: too many values to rank")
+	}
+	r := dst
+	if r == nil {
+		r = &Ranking{}
+	}
+	twice, perm, nan := r.twice, r.perm, r.nan
+	if cap(twice) < n {
+		twice = make([]int32, n)
+	}
+	*r = Ranking{n: n, twice: twice[:n]}
+	// The smallest and largest key, and the NaN rows.
+	lo, hi := uint64(math.MaxUint64), uint64(0)
+	m := 0
+	for i, v := range x {
+		if v != v {
+			if r.nan == nil {
+				if cap(nan) < (n+63)/64 {
+					nan = make([]uint64, (n+63)/64)
+				}
+				r.nan = nan[:(n+63)/64]
+				clear(r.nan)
+			}
+			r.nan[i/64] |= 1 << (i % 64)
+			r.twice[i] = 0
+			continue
+		}
+		k := floatKey(v)
+		lo, hi = min(lo, k), max(hi, k)
+		m++
+	}
+	r.m = m
+	if cap(perm) < m {
+		perm = make([]uint32, m)
+	}
+	r.perm = perm[:m]
+	if m > 0 {
+		rk.sort(r, x, lo, hi)
+	}
+	r.sumSq = sumSquares(r.twice)
+	return r
+}
+
+// sort fills r.perm and r.twice for the m non-NaN values of x, whose keys
+// lie in [lo, hi].
+func (rk *Ranker) sort(r *Ranking, x []float64, lo, hi uint64) {
+	m := r.m
+	idxBits := bits.Len(uint(r.n))
+	used := bits.Len64(hi - lo)
+	keep := 64 - idxBits
+	shift := 0
+	if used > keep {
+		shift, used = used-keep, keep
+	}
+	w := walker{r: r, x: x, idxBits: idxBits, exact: shift == 0, run: rk.run[:0]}
+	defer func() { rk.run = w.run }()
+
+	// Pack (kept key bits, row), counting the top digit of the kept bits.
+	topW := min(used, 8)
+	topShift := uint(idxBits + used - topW)
+	topMask := uint64(1)<<topW - 1
+	var count [256]int
+	if cap(rk.buf) < 2*m {
+		rk.buf = make([]uint64, 2*m)
+	}
+	src, tmp := rk.buf[:m], rk.buf[m:2*m]
+	j := 0
+	for i, v := range x {
+		if v != v {
+			continue
+		}
+		p := (floatKey(v)-lo)>>shift<<idxBits | uint64(i)
+		src[j] = p
+		j++
+		count[p>>topShift&topMask]++
+	}
+	if m < radixMin {
+		slices.Sort(src) // by kept bits, then row: the order the radix sort gives
+		w.walk(src, 0)
+		return
+	}
+	// Most-significant digit first, into buckets that fit in cache; then
+	// each bucket by its remaining kept bits, and its runs walked while
+	// it is in cache. A run of equal kept bits never spans two buckets.
+	var pos [256]int
+	sum := 0
+	for b, c := range count {
+		pos[b], sum = sum, sum+c
+	}
+	for _, p := range src {
+		b := p >> topShift & topMask
+		tmp[pos[b]] = p
+		pos[b]++
+	}
+	s := 0
+	for _, c := range count {
+		if c == 0 {
+			continue
+		}
+		b := tmp[s : s+c]
+		if c > 1 && used > topW {
+			b = rk.digits.msd(b, src[s:s+c], idxBits, used-topW)
+		}
+		w.walk(b, s)
+		s += c
+	}
+}
+
+// walker turns sorted packed (kept key bits, row) words into the order
+// and ranks of a Ranking.
+type walker struct {
+	r       *Ranking
+	x       []float64
+	idxBits int
+	exact   bool // no key bit was dropped: equal kept bits are ties
+	run     []keyed
+}
+
+// walk records the sorted words a, which hold sorted positions base…:
+// each run of equal kept bits is one group of tied values or, when key
+// bits were dropped, values to sort again by their full key.
+func (w *walker) walk(a []uint64, base int) {
+	r := w.r
+	ib := uint(w.idxBits)
+	mask := uint64(1)<<ib - 1
+	m1 := r.m + 1
+	perm := r.perm[base : base+len(a)]
+	twice := r.twice
+	for s := 0; s < len(a); {
+		p := a[s] >> ib
+		if s+1 == len(a) || a[s+1]>>ib != p {
+			// A value of its own: the common case.
+			i := uint32(a[s] & mask)
+			perm[s] = i
+			twice[i] = int32(2*(base+s) + 2 - m1)
+			s++
+			continue
+		}
+		e := s + 2
+		for e < len(a) && a[e]>>ib == p {
+			e++
+		}
+		if w.exact || e-s == 1 {
+			tw := int32(2*base + s + 1 + e - m1)
+			i := uint32(a[s] & mask)
+			r.perm[base+s] = i
+			r.twice[i] = tw
+			for k := s + 1; k < e; k++ {
+				i := uint32(a[k] & mask)
+				r.perm[base+k] = i | tieBit
+				r.twice[i] = tw
+			}
+			s = e
+			continue
+		}
+		run := w.run[:0]
+		for _, q := range a[s:e] {
+			i := uint32(q & mask)
+			run = append(run, keyed{floatKey(w.x[i]), i})
+		}
+		if !slices.IsSortedFunc(run, cmpKeyed) {
+			slices.SortFunc(run, cmpKeyed)
+		}
+		for t := 0; t < len(run); {
+			u := t + 1
+			for u < len(run) && run[u].k == run[t].k {
+				u++
+			}
+			tw := int32(2*base + 2*s + t + 1 + u - m1)
+			for k := t; k < u; k++ {
+				i := run[k].i
+				if k > t {
+					r.perm[base+s+k] = i | tieBit
+				} else {
+					r.perm[base+s+k] = i
+				}
+				r.twice[i] = tw
+			}
+			t = u
+		}
+		w.run = run
+		s = e
+	}
+}
+
+func cmpKeyed(p, q keyed) int {
+	if c := cmp.Compare(p.k, q.k); c != 0 {
+		return c
+	}
+	return cmp.Compare(p.i, q.i)
+}
+
+// msd sorts b, whose words agree above bit idxBits+nbits, by the bits
+// below that down to idxBits, stably, with tmp (same length) as scratch,
+// and returns the slice (b or tmp) that holds the result: by insertion
+// below 64 values, else by the top digit of up to 12 bits (about two
+// counters per value) into tmp and each digit's values again.
+func (l *digitScratch) msd(b, tmp []uint64, idxBits, nbits int) []uint64 {
+	if len(b) < 64 {
+		insertionSort(b)
+		return b
+	}
+	w := min(nbits, 12, bits.Len(uint(len(b)))+1)
+	sh := uint(idxBits + nbits - w)
+	mask := uint64(1)<<w - 1
+	c := l.count[:1<<w]
+	clear(c)
+	for _, v := range b {
+		c[(v>>sh)&mask]++
+	}
+	if c[(b[0]>>sh)&mask] == uint32(len(b)) {
+		// One digit for all (ties, or a narrow range): on to the next.
+		if nbits == w {
+			return b
+		}
+		return l.msd(b, tmp, idxBits, nbits-w)
+	}
+	var sum uint32
+	for k := range c {
+		c[k], sum = sum, sum+c[k]
+	}
+	for _, v := range b {
+		k := (v >> sh) & mask
+		tmp[c[k]] = v
+		c[k]++
+	}
+	if nbits == w {
+		return tmp
+	}
+	// c[k] is now the end of digit k's values.
+	start := uint32(0)
+	for k := range 1 << w {
+		end := l.count[k]
+		if end-start > 1 {
+			sub := tmp[start:end]
+			if len(sub) < 64 {
+				insertionSort(sub)
+			} else {
+				var sc digitScratch
+				if r := sc.msd(sub, b[start:end], idxBits, nbits-w); &r[0] != &sub[0] {
+					copy(sub, r)
+				}
+			}
+		}
+		start = end
+	}
+	return tmp
+}
+
+// insertionSort sorts b by its whole words.
+func insertionSort(b []uint64) {
+	for i := 1; i < len(b); i++ {
+		v := b[i]
+		k := i
+		for k > 0 && b[k-1] > v {
+			b[k] = b[k-1]
+			k--
+		}
+		b[k] = v
+	}
+}
+
+// digitScratch holds the digit counts of digitScratch.msd.
+type digitScratch struct {
+	count [1 << 12]uint32
+}
+
+// Compact frees the sorted order r keeps (4 of its 8 bytes per value),
+// keeping the ranks: Spearman's ρ needs no more when neither column has a
+// NaN. Whatever needs the order later ([Ranking.Sorted], [Ranking.Head],
+// ρ with a column that has NaNs) rebuilds it from the ranks once, in
+// O(n) time with 8 bytes per value of scratch. Compact must not be called
+// while r is in use by another goroutine, nor on a Ranking a [Ranker]
+// will reuse.
+func (r *Ranking) Compact() {
+	if r.m == 0 {
+		return
+	}
+	r.perm, r.compact = nil, true
+}
+
+// order returns r.perm, rebuilding it after Compact.
+func (r *Ranking) order() []uint32 {
+	if r.compact {
+		r.rebuild.Do(r.rebuildOrder)
+	}
+	return r.perm
+}
+
+// rebuildOrder rebuilds perm from twice: the tied values of one group
+// share a doubled centred rank tw; a group of g values at sorted positions
+// s…s+g−1 has tw = 2s + g − m, so s = (tw + m − g)/2. Counting the rows of
+// each tw places every row, tied rows in row order.
+func (r *Ranking) rebuildOrder() {
+	m := r.m
+	count := make([]int32, 2*m+1) // by tw + m
+	for i, tw := range r.twice {
+		if !r.isNaN(i) {
+			count[int(tw)+m]++
+		}
+	}
+	next := make([]int32, 2*m+1)
+	for v, g := range count {
+		if g > 0 {
+			next[v] = int32((v - int(g)) / 2) // (tw + m − g)/2 with v = tw + m
+		}
+	}
+	perm := make([]uint32, m)
+	for i, tw := range r.twice {
+		if r.isNaN(i) {
+			continue
+		}
+		v := int(tw) + m
+		j := next[v]
+		next[v]++
+		p := uint32(i)
+		if j > int32((v-int(count[v]))/2) {
+			p |= tieBit
+		}
+		perm[j] = p
+	}
+	r.perm = perm
+}
+
+// Len returns the number of values ranked, NaN included.
+func (r *Ranking) Len() int { return r.n }
+
+// Valid returns the number of non-NaN values.
+func (r *Ranking) Valid() int { return r.m }
+
+// isNaN reports whether row i is NaN.
+func (r *Ranking) isNaN(i int) bool { return r.nan != nil && r.nan[i/64]&(1<<(i%64)) != 0 }
+
+// Ranks writes the mid-ranks of the ranked values into dst, in row order,
+// NaN for a NaN value, and returns dst; a nil or short dst is replaced by
+// a new slice. The ranks are [Ranks] of the values, bit for bit.
+func (r *Ranking) Ranks(dst []float64) []float64 {
+	if cap(dst) < r.n {
+		dst = make([]float64, r.n)
+	}
+	dst = dst[:r.n]
+	for i, t := range r.twice {
+		if r.isNaN(i) {
+			dst[i] = math.NaN()
+			continue
+		}
+		// The same value as ranksIntoBuf's float64(s+1+e)/2.
+		dst[i] = float64(int64(t)+int64(r.m)+1) / 2
+	}
+	return dst
+}
+
+// Sorted writes the non-NaN values of x in increasing order into dst and
+// returns them (dst[:r.Valid()]); a short dst is replaced by a new slice.
+// x must be the column r was built from. Tied values come in row order, so
+// −0 and +0 keep the order of their rows.
+//
+// Sorted panics if x's length is not r's.
+func (r *Ranking) Sorted(x, dst []float64) []float64 {
+	if len(x) != r.n {
+		panic("summarize: slice length mismatch")
+	}
+	if cap(dst) < r.m {
+		dst = make([]float64, r.m)
+	}
+	dst = dst[:r.m]
+	for j, p := range r.order() {
+		dst[j] = x[p&rowMask]
+	}
+	return dst
+}
+
+// Head returns the Ranking of the first k values, k ≤ r.Len(): what
+// [Rank] gives on them, from r's order in one pass, without sorting again.
+//
+// Head panics if k is negative or larger than r.Len().
+func (r *Ranking) Head(k int) *Ranking {
+	if k < 0 || k > r.n {
+		panic("summarize: head longer than the ranking")
+	}
+	if k == r.n {
+		return r
+	}
+	h := &Ranking{n: k, twice: make([]int32, k)}
+	for i := range k {
+		if r.isNaN(i) {
+			if h.nan == nil {
+				h.nan = make([]uint64, (k+63)/64)
+			}
+			h.nan[i/64] |= 1 << (i % 64)
+			continue
+		}
+		h.m++
+	}
+	h.perm = make([]uint32, 0, h.m)
+	kk := uint32(k)
+	// Kept values are tied when every value between them in r's order is
+	// tied with its predecessor.
+	start, m1 := 0, h.m+1
+	broken := true
+	for _, p := range r.order() {
+		if p&tieBit == 0 {
+			broken = true
+		}
+		i := p & rowMask
+		if i >= kk {
+			continue
+		}
+		j := len(h.perm)
+		if j > 0 && !broken {
+			h.perm = append(h.perm, i|tieBit)
+		} else {
+			h.setGroup(start, j, m1)
+			start = j
+			h.perm = append(h.perm, i)
+		}
+		broken = false
+	}
+	h.setGroup(start, len(h.perm), m1)
+	h.sumSq = sumSquares(h.twice)
+	return h
+}
+
+// setGroup sets the doubled centred rank of the tied values at sorted
+// positions s…e−1 of h.perm; m1 is h.m+1.
+func (h *Ranking) setGroup(s, e, m1 int) {
+	tw := int32(s + 1 + e - m1)
+	for _, p := range h.perm[s:e] {
+		h.twice[p&rowMask] = tw
+	}
+}
+
+// filter walks the values of the rows keep accepts, m of them, in
+// increasing order, and ranks them among themselves: rank(rows, tw) is
+// called once per group of tied kept values with their doubled centred
+// rank 2·(rank − (m+1)/2). Two kept values are tied exactly when every
+// value between them in the full order is tied with its predecessor.
+func (r *Ranking) filter(keep func(int) bool, m int, rank func(rows []uint32, tw int32)) {
+	var grp []uint32
+	j, start := 0, 0
+	broken := true // a value since the last kept one starts a new group
+	flush := func() {
+		if len(grp) > 0 {
+			rank(grp, int32(start+1+j-(m+1)))
+			grp = grp[:0]
+		}
+	}
+	for _, p := range r.order() {
+		if p&tieBit == 0 {
+			broken = true
+		}
+		i := p & rowMask
+		if !keep(int(i)) {
+			continue
+		}
+		if j == 0 || broken {
+			flush()
+			start = j
+		}
+		grp = append(grp, i)
+		j++
+		broken = false
+	}
+	flush()
+}
+
+// SpearmanRanked returns Spearman's rank correlation of the columns x and
+// y were ranked from, and the number of complete pairs (rows where neither
+// value is NaN): exactly [Spearman] of the two columns, bit for bit, with
+// ranks taken over the complete pairs only. It panics if x and y rank
+// columns of different lengths.
+func SpearmanRanked(x, y *Ranking) (rho float64, n int) {
+	r, c := SpearmanRankedEach([]*Ranking{x}, y)
+	return r[0], c[0]
+}
+
+// SpearmanRankedEach returns [SpearmanRanked](xs[k], y) for every k: the
+// way to correlate one output with all the inputs of a study. Where
+// neither column has a NaN it costs one pass over the rows for every four
+// columns of xs; otherwise each pair is ranked again over its complete
+// pairs from the two orders, in O(n). It panics if a column's length
+// differs from y's.
+func SpearmanRankedEach(xs []*Ranking, y *Ranking) (rho []float64, n []int) {
+	for _, x := range xs {
+		if x.n != y.n {
+			panic("summarize: slice length mismatch")
+		}
+	}
+	rho, n = make([]float64, len(xs)), make([]int, len(xs))
+	syy := y.sumSq
+	var dense []int // columns without NaN, when y has none either
+	var ax, by []int32
+	for k, x := range xs {
+		if x.nan == nil && y.nan == nil {
+			dense = append(dense, k)
+			n[k] = y.n
+			continue
+		}
+		// Rank both over the complete pairs.
+		both := func(i int) bool { return !x.isNaN(i) && !y.isNaN(i) }
+		m := 0
+		for i := range y.n {
+			if both(i) {
+				m++
+			}
+		}
+		n[k] = m
+		if m < 2 {
+			rho[k] = math.NaN()
+			continue
+		}
+		if ax == nil {
+			ax, by = make([]int32, y.n), make([]int32, y.n)
+		}
+		x.rankOver(both, m, ax)
+		y.rankOver(both, m, by)
+		var s [1]float64
+		dots([][]int32{ax}, by, s[:])
+		rho[k] = correlation(s[0], sumSquares(ax), sumSquares(by))
+	}
+	if len(dense) == 0 {
+		return rho, n
+	}
+	if y.n < 2 {
+		for _, k := range dense {
+			rho[k] = math.NaN()
+		}
+		return rho, n
+	}
+	cols := make([][]int32, len(dense))
+	for j, k := range dense {
+		cols[j] = xs[k].twice
+	}
+	sxy := make([]float64, len(dense))
+	dots(cols, y.twice, sxy)
+	for j, k := range dense {
+		rho[k] = correlation(sxy[j], xs[k].sumSq, syy)
+	}
+	return rho, n
+}
+
+// rankOver writes into dst, for each row keep accepts (m rows), its
+// doubled centred rank among those rows, and 0 for every other row.
+func (r *Ranking) rankOver(keep func(int) bool, m int, dst []int32) {
+	if m == r.m {
+		// Every non-NaN row is kept: the ranks are r's own.
+		copy(dst, r.twice)
+		return
+	}
+	clear(dst)
+	r.filter(keep, m, func(rows []uint32, tw int32) {
+		for _, i := range rows {
+			dst[i] = tw
+		}
+	})
+}
+
+// correlation returns the Pearson correlation from the sums of products of
+// doubled centred ranks, as rankCorrelation does from the ranks: each sum
+// here is 4 times rankCorrelation's exactly (every product is exact and
+// scaling by a power of two commutes with rounding), so scaling back gives
+// its sums bit for bit.
+func correlation(sxy4, sxx4, syy4 float64) float64 {
+	sxy, sxx, syy := sxy4/4, sxx4/4, syy4/4
+	if sxx == 0 || syy == 0 {
+		return math.NaN()
+	}
+	return max(-1, min(1, sxy/math.Sqrt(sxx*syy)))
+}
+
+// sumSquares returns Σ a[i]², summed in row order in float64.
+func sumSquares(a []int32) float64 {
+	var s float64
+	for _, v := range a {
+		f := float64(v)
+		s += f * f
+	}
+	return s
+}
+
+// dots sets out[k] = Σ_i as[k][i]·b[i], each sum taken in row order in
+// float64, four columns per pass over b.
+func dots(as [][]int32, b []int32, out []float64) {
+	k := 0
+	for ; k+4 <= len(as); k += 4 {
+		a0, a1, a2, a3 := as[k][:len(b)], as[k+1][:len(b)], as[k+2][:len(b)], as[k+3][:len(b)]
+		var s0, s1, s2, s3 float64
+		for i, v := range b {
+			f := float64(v)
+			s0 += float64(a0[i]) * f
+			s1 += float64(a1[i]) * f
+			s2 += float64(a2[i]) * f
+			s3 += float64(a3[i]) * f
+		}
+		out[k], out[k+1], out[k+2], out[k+3] = s0, s1, s2, s3
+	}
+	for ; k < len(as); k++ {
+		a0 := as[k][:len(b)]
+		var s0 float64
+		for i, v := range b {
+			s0 += float64(a0[i]) * float64(v)
+		}
+		out[k] = s0
+	}
+}
