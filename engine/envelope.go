@@ -516,20 +516,26 @@ func (sc *scan) chordsOfHull(ff *FracFlow) int {
 			continue
 		}
 		c := chord{i: i, j: j, p: sc.x[i], q: sc.x[j]}
-		sc.refine(ff, &c)
+		solved := sc.refine(ff, &c)
 		// A shock whose lower end passes the previous one's upper end has
 		// swallowed the fan between them: merge the two and solve again.
 		for nc > 0 && c.p <= sc.chords[nc-1].q {
 			prev := sc.chords[nc-1]
 			nc--
 			c = chord{i: prev.i, j: c.j, p: prev.p, q: c.q}
-			sc.refine(ff, &c)
+			solved = sc.refine(ff, &c)
 		}
 		// A shock from s1_init or to S_b is kept however narrow: its one
 		// tangency is well conditioned, and the front may be all there is
 		// (with R ≪ 1 and n1 ≈ 1 the whole S-curve lies within Se < 1e-5).
+		// That tangency being well conditioned, refine settles on it. A
+		// chord refine did not settle is judged like any other: its
+		// tangency conditions were rounding noise along the edge (an edge
+		// between the last samples of the cluster at Se → 1, where f is so
+		// flat that chord and f agree to rounding; which noise roots the
+		// rounds hit depends on their starting points).
 		width := sc.minWidth
-		if c.p == sc.x[0] || c.q == sc.x[sc.n-1] {
+		if solved && (c.p == sc.x[0] || c.q == sc.x[sc.n-1]) {
 			width = 0
 		}
 		if c.q-c.p > width && sc.fAt(ff, c.q)-sc.fAt(ff, c.p) > sc.minRise {
@@ -625,6 +631,15 @@ func (sc *scan) splitBumps(ff *FracFlow, nc int) bool {
 //     of f' − c is asked whether it crosses zero and back, and f' − c is
 //     evaluated at its extremum to split the interval. The intervals at the
 //     shock's own end states (s1_init or S_b on the grid) are searched too.
+//   - A sample where f″ > 0 between two shocks (or between a shock and an
+//     end state) sits in what would be a fan, where f must be concave: the
+//     hull stepped over a convex stretch (a hull edge whose shock was
+//     solved to a tangency short of the edge's far end, say, leaving
+//     samples past it unaccounted for). Where f″ turns from > 0 to ≤ 0
+//     between neighbouring samples, f is sampled at the maximum of the
+//     cubic Hermite interpolant of f' there (the inflection of f, where
+//     the stretch rises most above chords from its left), so that the
+//     next hull sees the stretch.
 //
 // It reports whether any sample was added.
 func (sc *scan) splitHidden(ff *FracFlow, nc int) bool {
@@ -675,6 +690,51 @@ func (sc *scan) splitHidden(ff *FracFlow, nc int) bool {
 			if gap := f - (fp + speed*(s-c.p)); gap > 1e-13*(1+math.Abs(f)) {
 				sc.insert(k+1, s, f, df, d2f)
 				added = true
+				k++
+			}
+		}
+	}
+	// Last: the first search indexes the grid through the hull, which
+	// splitFans's insertions would shift.
+	return sc.splitFans(ff, nc) || added
+}
+
+// splitFans is the third search of [scan.splitHidden]: it samples f at
+// the inflections that follow samples with f″ > 0 inside the stretches
+// between the shocks sc.chords[:nc], and reports whether it added any.
+func (sc *scan) splitFans(ff *FracFlow, nc int) bool {
+	added := false
+	k := 0
+	for ci := 0; ci <= nc && sc.n < maxGrid; ci++ {
+		lo, hi := sc.x[0], sc.x[sc.n-1]
+		if ci > 0 {
+			lo = sc.chords[ci-1].q
+		}
+		if ci < nc {
+			hi = sc.chords[ci].p
+		}
+		for ; k+1 < sc.n && sc.x[k] < hi && sc.n < maxGrid; k++ {
+			d0, d1 := sc.d2y[k], sc.d2y[k+1]
+			if sc.x[k] <= lo || !(d0 > 0) || math.IsInf(d0, 1) || !(d1 <= 0) {
+				continue
+			}
+			x0, x1 := sc.x[k], sc.x[k+1]
+			top := max(sc.dy[k], sc.dy[k+1])
+			z := hermiteTurn(x0, x1, sc.dy[k]-top, sc.dy[k+1]-top, d0, d1)
+			if math.IsNaN(z) {
+				z = 0.5 * (x0 + x1)
+			}
+			if !(z > x0 && z < x1) {
+				continue
+			}
+			f, df, d2f := ff.Eval(z)
+			sc.insert(k+1, z, f, df, d2f)
+			added = true
+			k++
+		}
+		if ci < nc {
+			// Past the shock: on to the first sample at or above its upper end.
+			for k+1 < sc.n && sc.x[k] < sc.chords[ci].q {
 				k++
 			}
 		}
@@ -768,8 +828,10 @@ func (sc *scan) insert(k int, s, f, df, d2f float64) {
 // end q is S_b or a tangency point. The two one-sided problems are solved
 // in turn; at a bitangent the coupling between them vanishes (the
 // Jacobian of the two tangency conditions is diagonal there because
-// f'(p) = f'(q)), so a few rounds converge.
-func (sc *scan) refine(ff *FracFlow, c *chord) {
+// f'(p) = f'(q)), so a few rounds converge. It reports whether they did:
+// false means c holds the last round's ends, which need not be
+// consistent (the last p was solved for the q before the last).
+func (sc *scan) refine(ff *FracFlow, c *chord) bool {
 	if c.i == 0 {
 		// A shock that may leave the initial state: start from it, since
 		// the tangency can lie anywhere inside the first grid interval.
@@ -785,16 +847,17 @@ func (sc *scan) refine(ff *FracFlow, c *chord) {
 		if p == solvedFor {
 			// q was solved from this very p: both ends are consistent.
 			c.p = p
-			return
+			return true
 		}
 		q := sc.upperEnd(ff, c.j, p)
 		solvedFor = p
 		done := math.Abs(p-c.p) <= tangencyTol && math.Abs(q-c.q) <= tangencyTol
 		c.p, c.q = p, q
 		if done {
-			return
+			return true
 		}
 	}
+	return false
 }
 
 // snapTol is the distance in saturation within which a contact point is
