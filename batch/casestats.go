@@ -3,7 +3,6 @@ package batch
 import (
 	"cmp"
 	"context"
-	"math"
 	"slices"
 	"sync"
 
@@ -218,7 +217,7 @@ func computeCaseStats(ctx context.Context, cf *columnFile, plan *statsPlan, work
 		}
 		var sorted []float64
 		switch {
-		case rk != nil && rk.Len() == rows && !signedZeros(col):
+		case rk != nil && rk.Len() == rows && !summarize.SignedZeros(col):
 			// The ranking of the whole column orders it: the sorted values
 			// are DescribeLevel's (whose sort only leaves the order of −0
 			// and +0 free), without sorting again.
@@ -265,22 +264,6 @@ func computeCaseStats(ctx context.Context, cf *columnFile, plan *statsPlan, work
 		}
 	}
 	return res, nil
-}
-
-// signedZeros reports whether x holds both −0 and +0, whose relative order
-// after sorting is the one thing two exact sorts may disagree on.
-func signedZeros(x []float64) bool {
-	neg, pos := false, false
-	for _, v := range x {
-		if v == 0 {
-			if math.Signbit(v) {
-				neg = true
-			} else {
-				pos = true
-			}
-		}
-	}
-	return neg && pos
 }
 
 // numColumns returns the number of columns computeCaseStats reads for p

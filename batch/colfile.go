@@ -177,15 +177,7 @@ func (c *columnFile) index(schema *arrow.Schema, numRecords int) (bool, error) {
 // body at bodyAt): its length and, for each float64 field, where its
 // values lie. It returns false for a layout the index does not cover.
 func parseBatch(meta []byte, bodyAt int64, nfields, nbuf int, firstBuf []int, floats map[string]int) (colBlock, bool, error) {
-	prefix := 4
-	switch binary.LittleEndian.Uint32(meta) {
-	case 0:
-		prefix = 0
-	case 0xFFFFFFFF:
-		prefix = 8
-	}
-	fb := &fbuf{b: meta[prefix:], budget: len(meta)/4 + 16}
-	msg, err := fb.root()
+	fb, msg, err := messageRoot(meta)
 	if err != nil {
 		return colBlock{}, false, err
 	}

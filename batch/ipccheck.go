@@ -102,6 +102,22 @@ func checkIPC(r io.ReaderAt, size int64) error {
 	return nil
 }
 
+// messageRoot returns the Message flatbuffer of a block's metadata buf,
+// after its prefix (as the Arrow reader: continuation token + length, or
+// a bare length), with a reader over it.
+func messageRoot(buf []byte) (*fbuf, fbTable, error) {
+	prefix := 4
+	switch binary.LittleEndian.Uint32(buf) {
+	case 0:
+		prefix = 0
+	case 0xFFFFFFFF:
+		prefix = 8
+	}
+	f := &fbuf{b: buf[prefix:], budget: len(buf)/4 + 16}
+	msg, err := f.root()
+	return f, msg, err
+}
+
 // checkBlock checks one block of the file: inside the data part, and its
 // Message flatbuffer (of type want) consistent with its body.
 func checkBlock(r io.ReaderAt, off, meta, body, dataEnd int64, want int) error {
@@ -112,15 +128,7 @@ func checkBlock(r io.ReaderAt, off, meta, body, dataEnd int64, want int) error {
 	if _, err := r.ReadAt(buf, off); err != nil {
 		return err
 	}
-	prefix := 4 // as the Arrow reader: continuation token + length, or a bare length
-	switch binary.LittleEndian.Uint32(buf) {
-	case 0:
-		prefix = 0
-	case 0xFFFFFFFF:
-		prefix = 8
-	}
-	f := &fbuf{b: buf[prefix:], budget: len(buf)/4 + 16}
-	msg, err := f.root()
+	f, msg, err := messageRoot(buf)
 	if err != nil {
 		return err
 	}

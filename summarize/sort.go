@@ -32,17 +32,7 @@ func sortFloats(x []float64) {
 		slices.Sort(x)
 		return
 	}
-	neg, pos := false, false
-	for _, v := range x {
-		if v == 0 {
-			if math.Signbit(v) {
-				neg = true
-			} else {
-				pos = true
-			}
-		}
-	}
-	if neg && pos {
+	if SignedZeros(x) {
 		msdSort(x, 56)
 		return
 	}
@@ -207,4 +197,20 @@ func msdSort(x []float64, shift uint) {
 			msdSort(x[start[b]:start[b]+c], shift-8)
 		}
 	}
+}
+
+// SignedZeros reports whether x holds both −0 and +0, whose relative order
+// after sorting is the one thing two exact sorts of x may disagree on.
+func SignedZeros(x []float64) bool {
+	neg, pos := false, false
+	for _, v := range x {
+		if v == 0 {
+			if math.Signbit(v) {
+				neg = true
+			} else {
+				pos = true
+			}
+		}
+	}
+	return neg && pos
 }
