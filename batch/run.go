@@ -112,13 +112,12 @@ func (w *worker) solveChunk(st *studies.Study, outs []engine.Output, c *chunk) {
 			row[j] = c.in[j][k]
 		}
 		p := st.Case(row[:])
+		w.solver.SolveCase(&p, st.Report.PVI, st.Report.CutLimit, &w.res)
 		// The derived inputs (a rock sample's end points, the
 		// cross-section, the flux) are written as the case used them.
-		w.solver.Model.Resolve(&p)
-		for j := range row {
-			c.in[j][k] = p[j]
+		for j, v := range w.solver.Inputs() {
+			c.in[j][k] = v
 		}
-		w.solver.SolveCase(&p, st.Report.PVI, st.Report.CutLimit, &w.res)
 		for o := range outs {
 			c.out[o][k] = outs[o].Get(&w.res)
 		}

@@ -30,6 +30,10 @@ func (f Family) String() string {
 	return fmt.Sprintf("Family(%d)", uint8(f))
 }
 
+// FamilyNames returns the study-file names of the families in Family
+// order (a new slice).
+func FamilyNames() []string { return append([]string(nil), familyNames[:]...) }
+
 // FamilyByName returns the family with the given study-file name.
 func FamilyByName(name string) (Family, bool) {
 	for i, n := range familyNames {
@@ -107,9 +111,7 @@ func (m *Model) Uses(p Param) bool {
 		return fam == FamilyLET
 	case RockSample:
 		return fam == FamilyTable
-	case LengthM, Porosity, B2:
-		return m != nil && m.Volumes != nil
-	case AreaM2:
+	case LengthM, AreaM2, Porosity, B2:
 		return m != nil && m.Volumes != nil
 	case WidthM, ThicknessM:
 		return m != nil && m.Volumes != nil && m.Volumes.AreaFromWidth
@@ -175,10 +177,11 @@ func (m *Model) Resolve(p *Params) {
 	}
 	if m.Family == FamilyTable {
 		if t := m.table(p); t != nil {
-			s1r, s2r, k1, k2 := t.EndPoints()
+			var ends [4]float64
+			ends[0], ends[1], ends[2], ends[3] = t.EndPoints()
 			for i, q := range [4]Param{S1r, S2r, Kr1Max, Kr2Max} {
 				if m.TableEnds[i] {
-					p[q] = [4]float64{s1r, s2r, k1, k2}[i]
+					p[q] = ends[i]
 				}
 			}
 		}

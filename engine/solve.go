@@ -95,6 +95,11 @@ func (s *Solver) solve(p *Params, rel RelPerm, sol *Solution) error {
 	return nil
 }
 
+// Inputs returns the inputs of the case solved last, as the model
+// resolved them (see [Model.Resolve]): what the case actually used. The
+// pointer aliases the Solver and is overwritten by the next Solve.
+func (s *Solver) Inputs() *Params { return &s.sol.Params }
+
 // Result is the flat per-case output of [Solver.SolveCase], one field per
 // output column of DESIGN §2. RecoveryAt and CutAt hold one value per PVI
 // checkpoint. For a case that is not StatusOK every number is NaN except

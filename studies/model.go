@@ -47,7 +47,7 @@ type VolumeSettings struct {
 // belong to the volumes section instead of parameters.
 var (
 	relpermKeys  = []string{"model", "table"}
-	familyNames  = []string{"corey", "let", "table"}
+	familyNames  = engine.FamilyNames()
 	volumeParams = []engine.Param{engine.LengthM, engine.AreaM2, engine.WidthM, engine.ThicknessM, engine.Porosity, engine.B2, engine.RateM3PerDay}
 	volumeKeys   = []string{"rate_schedule", "field_units"}
 )

@@ -107,7 +107,6 @@ func (ps *paramSet) uncertain() []engine.Param {
 type modelParams struct {
 	family  engine.Family
 	tables  []*engine.Table // the rock samples of a table study
-	samples int             // len(tables), or 0
 	volumes *yaml.Node      // the volumes section, nil if none
 	volKey  *yaml.Node
 
@@ -161,7 +160,7 @@ func (mp *modelParams) required(q engine.Param) bool {
 	if isVolumeParam(q) {
 		return false
 	}
-	m := engine.Model{Family: mp.family, Tables: make([]*engine.Table, mp.samples)}
+	m := engine.Model{Family: mp.family, Tables: mp.tables}
 	return m.Required(q)
 }
 
@@ -237,8 +236,8 @@ func (p *parser) parameters(key, n *yaml.Node, mp *modelParams) *paramSet {
 	p.resolveSameAs(ps)
 	p.dipNeeds(ps, mp)
 	p.volumeNeeds(ps, mp)
-	if mp.family == engine.FamilyTable && mp.samples > 0 {
-		p.rockSampleRule(ps, mp.samples)
+	if mp.family == engine.FamilyTable && len(mp.tables) > 0 {
+		p.rockSampleRule(ps, len(mp.tables))
 	}
 	p.validity(ps, mp)
 	return ps
@@ -836,7 +835,7 @@ func (p *parser) validity(ps *paramSet, mp *modelParams) {
 			}
 		}
 	}
-	if len(p.errs) > before || mp.family == engine.FamilyTable && mp.samples == 0 {
+	if len(p.errs) > before || mp.family == engine.FamilyTable && len(mp.tables) == 0 {
 		return // (a table that could not be read has its own error)
 	}
 	// When every parameter is fixed the engine's own check is exact: run it

@@ -641,7 +641,7 @@ func (p *parser) study(root *yaml.Node) *Study {
 	if e, ok := top["relperm"]; ok && !isNull(e.val) {
 		p.relperm(e.val, &s.Relperm)
 	}
-	mp := &modelParams{family: s.Relperm.Model, tables: s.Relperm.Samples, samples: len(s.Relperm.Samples)}
+	mp := &modelParams{family: s.Relperm.Model, tables: s.Relperm.Samples}
 	if e, ok := top["volumes"]; ok && !isNull(e.val) {
 		mp.volumes, mp.volKey = e.val, e.key
 	}
