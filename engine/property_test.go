@@ -33,17 +33,25 @@ func randomCase(rng *rand.Rand) Params {
 	if rng.IntN(5) > 0 {
 		// Gravity number G in [−50, 50]: set the permeability to give it.
 		g := 100 * (rng.Float64() - 0.5)
-		p[DipDeg] = 90 * (2*rng.Float64() - 1)
-		p[Rho1], p[Rho2] = 1100, 700
-		p[VelocityMPerDay] = 0.1
-		sin := math.Sin(p[DipDeg] * math.Pi / 180)
-		p[PermMD] = g * CentiPoise * p[Mu2CP] * (0.1 / SecondsPerDay) / (400 * StandardGravity * sin) / MilliDarcy
-		if p[PermMD] < 0 {
-			p[Rho1], p[Rho2] = p[Rho2], p[Rho1]
-			p[PermMD] = -p[PermMD]
-		}
+		setGravityNumber(&p, g, 90*(2*rng.Float64()-1))
 	}
 	return p
+}
+
+// setGravityNumber gives p the dip dip (degrees) and the densities (1100
+// and 700 kg/m³, swapped for the sign), velocity (0.1 m/day) and
+// permeability that make its gravity number g, by solving
+// G = k (rho1 − rho2) g sin(dip) / (mu2 u) for k.
+func setGravityNumber(p *Params, g, dip float64) {
+	p[DipDeg] = dip
+	p[Rho1], p[Rho2] = 1100, 700
+	p[VelocityMPerDay] = 0.1
+	sin := math.Sin(p[DipDeg] * math.Pi / 180)
+	p[PermMD] = g * CentiPoise * p[Mu2CP] * (0.1 / SecondsPerDay) / (400 * StandardGravity * sin) / MilliDarcy
+	if p[PermMD] < 0 {
+		p[Rho1], p[Rho2] = p[Rho2], p[Rho1]
+		p[PermMD] = -p[PermMD]
+	}
 }
 
 // TestEnvelopeProperties checks the defining properties of the upper

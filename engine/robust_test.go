@@ -106,10 +106,7 @@ func TestRobustnessSweep(t *testing.T) {
 				if tD == 0 || tD > 1000 {
 					continue
 				}
-				want := sol.AverageSaturation(tD)
-				if tD < tbt {
-					want = p[S1Init] + tD*(1-sol.FInit)
-				}
+				want := meanSaturation(&sol, tD)
 				d := math.Abs(integrateProfile(&sol, tD) - want)
 				worstBalance = math.Max(worstBalance, d)
 				if d > 1e-9 {
