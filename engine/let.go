@@ -70,19 +70,19 @@ func (m *LET) Eval(s float64) RelPermValue {
 	span := 1 - m.S1r - m.S2r
 	se := (s - m.S1r) / span
 	var v RelPermValue
-	switch top := 1 - m.S2r; {
-	case s < m.S1r:
+	switch rangeOf(s, m.S1r, m.S2r, se) {
+	case belowRange:
 		v.Kr2 = m.Kr2Max
-	case s > top:
+	case aboveRange:
 		v.Kr1 = m.Kr1Max
-	case s == m.S1r || se <= 0:
+	case atLow:
 		// Se = 0: kr1's curve at x = 0, kr2's at x = 1.
 		d, dd := letEndZero(m.L1, m.E1, m.T1)
 		v.DKr1, v.D2Kr1 = m.Kr1Max*d/span, m.Kr1Max*dd/(span*span)
 		v.Kr2 = m.Kr2Max
 		d, dd = letEndOne(m.L2, m.E2, m.T2)
 		v.DKr2, v.D2Kr2 = -m.Kr2Max*d/span, m.Kr2Max*dd/(span*span)
-	case s == top || se >= 1:
+	case atHigh:
 		// Se = 1: kr1's curve at x = 1, kr2's at x = 0.
 		v.Kr1 = m.Kr1Max
 		d, dd := letEndOne(m.L1, m.E1, m.T1)

@@ -51,20 +51,18 @@ func (c *Corey) Residuals() (s1r, s2r float64) { return c.S1r, c.S2r }
 func (c *Corey) Eval(s float64) RelPermValue {
 	span := 1 - c.S1r - c.S2r
 	se := (s - c.S1r) / span
-	// The end points are compared in saturation, so that S = s1r and
-	// S = 1 − s2r, written the same way by callers, hit them exactly.
 	var v RelPermValue
-	switch top := 1 - c.S2r; {
-	case s < c.S1r:
+	switch rangeOf(s, c.S1r, c.S2r, se) {
+	case belowRange:
 		v.Kr2 = c.Kr2Max
-	case s > top:
+	case aboveRange:
 		v.Kr1 = c.Kr1Max
-	case s == c.S1r || se <= 0:
+	case atLow:
 		v.Kr2 = c.Kr2Max
 		v.DKr1, v.D2Kr1 = powEndSlope(c.Kr1Max, c.N1, span)
 		v.DKr2 = -c.Kr2Max * c.N2 / span
 		v.D2Kr2 = c.Kr2Max * c.N2 * (c.N2 - 1) / (span * span)
-	case s == top || se >= 1:
+	case atHigh:
 		v.Kr1 = c.Kr1Max
 		v.DKr1 = c.Kr1Max * c.N1 / span
 		v.D2Kr1 = c.Kr1Max * c.N1 * (c.N1 - 1) / (span * span)
@@ -74,6 +72,38 @@ func (c *Corey) Eval(s float64) RelPermValue {
 		v = c.inner(se, pow(se, c.N1), pow(1-se, c.N2), span)
 	}
 	return v
+}
+
+// rangePart says where a saturation lies against a curve's mobile range
+// [s1r, 1 − s2r].
+type rangePart uint8
+
+const (
+	insideRange rangePart = iota // s1r < S < 1 − s2r and 0 < Se < 1
+	belowRange                   // S < s1r: the curves are flat
+	aboveRange                   // S > 1 − s2r: the curves are flat
+	atLow                        // S = s1r, or Se ≤ 0 by rounding
+	atHigh                       // S = 1 − s2r, or Se ≥ 1 by rounding
+)
+
+// rangeOf classifies s for curves with residuals s1r and s2r, se being
+// the caller's normalised saturation of s. The end points are compared in
+// saturation, so that S = s1r and S = 1 − s2r, written the same way by
+// callers, hit them exactly; se decides where rounding puts a saturation
+// a hair inside them at an end. Every RelPerm of the package classifies
+// through it, so their end-point branches agree.
+func rangeOf(s, s1r, s2r, se float64) rangePart {
+	switch top := 1 - s2r; {
+	case s < s1r:
+		return belowRange
+	case s > top:
+		return aboveRange
+	case s == s1r || se <= 0:
+		return atLow
+	case s == top || se >= 1:
+		return atHigh
+	}
+	return insideRange
 }
 
 // evalLog is Eval at an interior Se given ln Se, ln(1 − Se), 1/Se and

@@ -367,17 +367,17 @@ func (st *ScaledTable) Eval(s float64) RelPermValue {
 	se := (s - st.S1r) * ispan
 	var v RelPermValue
 	k1, k2 := st.Kr1Max*ispan, st.Kr2Max*ispan
-	switch top := 1 - st.S2r; {
-	case s < st.S1r:
+	switch rangeOf(s, st.S1r, st.S2r, se) {
+	case belowRange:
 		v.Kr2 = st.Kr2Max
-	case s > top:
+	case aboveRange:
 		v.Kr1 = st.Kr1Max
-	case s == st.S1r || se <= 0:
+	case atLow:
 		a, b := &t.c1[0], &t.c2[0]
 		v.Kr2 = st.Kr2Max
 		v.DKr1, v.DKr2 = k1*a[1], k2*b[1]
 		v.D2Kr1, v.D2Kr2 = 2*k1*ispan*a[2], 2*k2*ispan*b[2]
-	case s == top || se >= 1:
+	case atHigh:
 		m := len(t.c1) - 1
 		h := t.xs[m+1] - t.xs[m]
 		a, b := &t.c1[m], &t.c2[m]
