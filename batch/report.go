@@ -264,11 +264,6 @@ type figures struct {
 	Corr                                             []figure
 }
 
-// all returns every figure in report order.
-func (f *figures) all() []figure {
-	return slices.Concat(f.Exceed, f.Bands, f.Tornado, f.FracFlow, f.Profiles, f.Hist, f.Corr)
-}
-
 // headline is one output's P90, P50 and P10 in large type.
 type headline struct {
 	Title, Unit   string

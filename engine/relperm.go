@@ -106,20 +106,6 @@ func rangeOf(s, s1r, s2r, se float64) rangePart {
 	return insideRange
 }
 
-// evalLog is Eval at an interior Se given ln Se, ln(1 − Se), 1/Se and
-// 1/(1 − Se), and 1/(1 − S1r − S2r), for the scan's fixed grid.
-func (c *Corey) evalLog(se, l1, l2, inv1, inv2, ispan float64) RelPermValue {
-	var v RelPermValue
-	v.Kr1 = c.Kr1Max * powLog(se, l1, c.N1)
-	v.Kr2 = c.Kr2Max * powLog(1-se, l2, c.N2)
-	a, b := inv1*ispan, inv2*ispan
-	v.DKr1 = v.Kr1 * c.N1 * a
-	v.DKr2 = -v.Kr2 * c.N2 * b
-	v.D2Kr1 = v.DKr1 * (c.N1 - 1) * a
-	v.D2Kr2 = -v.DKr2 * (c.N2 - 1) * b
-	return v
-}
-
 // inner returns the curves for 0 < se < 1 from p1 = se^N1 and
 // p2 = (1 − se)^N2.
 func (c *Corey) inner(se, p1, p2, span float64) RelPermValue {

@@ -49,13 +49,6 @@ type Factory struct {
 	Global  *GlobalOptions      // set by NewCmdRoot when nil
 }
 
-func (f *Factory) now() time.Time {
-	if f.Now == nil {
-		return time.Now()
-	}
-	return f.Now()
-}
-
 func (f *Factory) global() *GlobalOptions {
 	if f.Global == nil {
 		f.Global = new(GlobalOptions)
