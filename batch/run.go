@@ -368,6 +368,7 @@ func swapIn(stage, final string) error {
 // bounded by 2·workers record batches.
 func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator) (map[string]int, string, error) {
 	outs := st.Model().Outputs(st.Report.PVI)
+	params := st.Model().Params() // the parameter columns, in schema order
 	schema := casesSchema(st, outs)
 	w, err := newIPCWriter(path, schema, mem)
 	if err != nil {
@@ -446,7 +447,7 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 		case <-gctx.Done():
 		}
 		if werr == nil && gctx.Err() == nil {
-			werr = appendChunk(w.b, c, st.Model().Params(), outs, rejected)
+			werr = appendChunk(w.b, c, params, outs, rejected)
 			if werr == nil {
 				werr = w.flush()
 			}
