@@ -127,25 +127,26 @@ func (d triangularDist) CDF(x float64) float64 { return d.t.CDF(x) }
 // pertDist is pert{min, mode, max}: standard PERT (λ = 4), a beta
 // distribution scaled to [min, max],
 //
-//	α = 1 + 4(mode − min)/(max − min),  β = 1 + 4(max − mode)/(max − min).
+//	α = 1 + 4(mode − min)/(max − min),  β = 1 + 4(max − mode)/(max − min),
+//
+// whose quantile comes from a [betaQuantile] table (α, β ≥ 1 always).
 type pertDist struct {
-	b        distuv.Beta
+	b        distuv.Beta // for the CDF
+	q        betaQuantile
 	min, max float64
 }
 
 func newPERT(min, mode, max float64) pertDist {
 	r := max - min
-	return pertDist{
-		b:   distuv.Beta{Alpha: 1 + 4*(mode-min)/r, Beta: 1 + 4*(max-mode)/r},
-		min: min, max: max,
-	}
+	b := distuv.Beta{Alpha: 1 + 4*(mode-min)/r, Beta: 1 + 4*(max-mode)/r}
+	return pertDist{b: b, q: newBetaQuantile(b.Alpha, b.Beta), min: min, max: max}
 }
 
 func (d pertDist) Quantile(p float64) float64 {
 	if badP(p) {
 		return math.NaN()
 	}
-	return clamp(d.min+(d.max-d.min)*d.b.Quantile(p), d.min, d.max)
+	return clamp(d.min+(d.max-d.min)*d.q.Quantile(p), d.min, d.max)
 }
 
 func (d pertDist) CDF(x float64) float64 { return d.b.CDF((x - d.min) / (d.max - d.min)) }
