@@ -101,22 +101,48 @@ type worker struct {
 	fill   *sampler.Filler
 	solver engine.Solver
 	res    engine.Result
+	lay    *caseLayout
+}
+
+// caseLayout says how a sampled row becomes engine inputs, worked out once
+// per run: the inputs every case shares, the design columns that vary from
+// case to case, and the parameter columns written back after the solve.
+type caseLayout struct {
+	base    engine.Params
+	vary    []int          // design columns that are not fixed
+	param   []engine.Param // the engine parameter of each design column
+	written []engine.Param // the cases.arrow parameter columns
+}
+
+func newCaseLayout(st *studies.Study, specs []sampler.Spec) *caseLayout {
+	l := &caseLayout{param: st.ParamIndex(), written: st.Model().Params()}
+	row := make([]float64, len(specs))
+	for j, sp := range specs {
+		if sp.Kind == sampler.Fixed {
+			row[j] = sp.Value
+		} else {
+			l.vary = append(l.vary, j)
+		}
+	}
+	l.base = st.Case(row)
+	return l
 }
 
 // solveChunk samples and solves the cases of c.
 func (w *worker) solveChunk(st *studies.Study, outs []engine.Output, c *chunk) {
 	w.fill.Fill(c.start, c.count, c.in)
-	var row [engine.NumParams]float64
+	lay := w.lay
 	for k := range c.count {
-		for j := range row {
-			row[j] = c.in[j][k]
+		p := lay.base
+		for _, j := range lay.vary {
+			p[lay.param[j]] = c.in[j][k]
 		}
-		p := st.Case(row[:])
 		w.solver.SolveCase(&p, st.Report.PVI, st.Report.CutLimit, &w.res)
 		// The derived inputs (a rock sample's end points, the
 		// cross-section, the flux) are written as the case used them.
-		for j, v := range w.solver.Inputs() {
-			c.in[j][k] = v
+		in := w.solver.Inputs()
+		for _, q := range lay.written {
+			c.in[q][k] = in[q]
 		}
 		for o := range outs {
 			c.out[o][k] = outs[o].Get(&w.res)
@@ -390,8 +416,9 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 	}
 
 	pool := make(chan *worker, workers)
+	lay := newCaseLayout(st, st.Specs())
 	for range workers {
-		pool <- &worker{fill: design.NewFiller(), solver: engine.Solver{Model: st.Model()}}
+		pool <- &worker{fill: design.NewFiller(), solver: engine.Solver{Model: st.Model()}, lay: lay}
 	}
 	free := make(chan *chunk, 2*workers)
 	for range 2 * workers {
