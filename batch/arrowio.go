@@ -11,6 +11,7 @@ import (
 	"os"
 	"path/filepath"
 	"strconv"
+	"sync"
 
 	"github.com/apache/arrow/go/v17/arrow"
 	"github.com/apache/arrow/go/v17/arrow/array"
@@ -39,7 +40,22 @@ func createAtomic(path string) (*atomicFile, error) {
 }
 
 // Commit flushes, closes and renames the file to its final name.
-func (a *atomicFile) Commit() error {
+func (a *atomicFile) Commit() error { return a.CommitTo(nil) }
+
+// CommitTo is Commit with the flush to disk left to g when g is not nil:
+// the file is renamed at once and g flushes and closes it in the
+// background, reporting a failure from its wait. The caller must wait
+// for g before it treats the file as durable (before a staging folder
+// holding it replaces the final one).
+func (a *atomicFile) CommitTo(g *syncGroup) error {
+	if g != nil {
+		if err := os.Rename(a.Name(), a.final); err != nil {
+			a.Abort()
+			return fmt.Errorf("writing %s: %w", a.final, err)
+		}
+		g.flush(a.File, a.final)
+		return nil
+	}
 	if err := a.File.Sync(); err != nil {
 		a.Abort()
 		return fmt.Errorf("writing %s: %w", a.final, err)
@@ -59,6 +75,44 @@ func (a *atomicFile) Commit() error {
 func (a *atomicFile) Abort() {
 	a.File.Close()
 	os.Remove(a.Name())
+}
+
+// syncGroup flushes files to disk in the background, so that the
+// summaries can read a large cases.arrow while the disk catches up.
+type syncGroup struct {
+	wg  sync.WaitGroup
+	mu  sync.Mutex
+	err error // the first failure
+}
+
+// flush syncs and closes f, whose final name is name, in a goroutine of
+// its own.
+func (g *syncGroup) flush(f *os.File, name string) {
+	g.wg.Go(func() {
+		err := f.Sync()
+		if cerr := f.Close(); err == nil {
+			err = cerr
+		}
+		if err != nil {
+			g.mu.Lock()
+			if g.err == nil {
+				g.err = fmt.Errorf("writing %s: %w", name, err)
+			}
+			g.mu.Unlock()
+		}
+	})
+}
+
+// wait waits for every flush begun and returns the first failure. A nil
+// group has nothing to wait for.
+func (g *syncGroup) wait() error {
+	if g == nil {
+		return nil
+	}
+	g.wg.Wait()
+	g.mu.Lock()
+	defer g.mu.Unlock()
+	return g.err
 }
 
 // writeFileAtomic writes data to path through a temporary file.
@@ -145,8 +199,9 @@ func (iw *ipcWriter) flush() error {
 	return nil
 }
 
-// commit writes the footer and renames the file into place.
-func (iw *ipcWriter) commit() error {
+// commit writes the footer and renames the file into place, its flush to
+// disk left to g when g is not nil (see atomicFile.CommitTo).
+func (iw *ipcWriter) commit(g *syncGroup) error {
 	defer iw.b.Release()
 	if err := iw.flush(); err != nil {
 		iw.file.Abort()
@@ -156,7 +211,7 @@ func (iw *ipcWriter) commit() error {
 		iw.file.Abort()
 		return fmt.Errorf("writing %s: %w", iw.file.final, err)
 	}
-	return iw.file.Commit()
+	return iw.file.CommitTo(g)
 }
 
 func (iw *ipcWriter) abort() {
@@ -211,7 +266,7 @@ func writeTable(path string, t *Table, mem memory.Allocator) error {
 			w.b.Field(i).(*array.Float64Builder).AppendValues(c, nil)
 		}
 	}
-	return w.commit()
+	return w.commit(nil)
 }
 
 // ErrCorrupt is the cause of errors about Arrow files that cannot be read.

@@ -414,7 +414,7 @@ func TestCaseStatsEdgeColumns(t *testing.T) {
 					}
 				}
 			}
-			if err := w.commit(); err != nil {
+			if err := w.commit(nil); err != nil {
 				t.Fatal(err)
 			}
 			cf, err := openColumnFile(path, nil)

@@ -338,3 +338,50 @@ func TestCheckIPCAcceptsArrowFeatures(t *testing.T) {
 		})
 	}
 }
+
+// TestCommitToDefersTheFlush checks the background flush of a large file:
+// CommitTo renames at once, the group's wait reports a flush that failed
+// (here the file was closed under it) with the file's name, and a group
+// with nothing to flush waits for nothing.
+func TestCommitToDefersTheFlush(t *testing.T) {
+	t.Parallel()
+	dir := t.TempDir()
+	path := filepath.Join(dir, "big.arrow")
+	f, err := createAtomic(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := f.Write([]byte("rows")); err != nil {
+		t.Fatal(err)
+	}
+	var g syncGroup
+	if err := f.CommitTo(&g); err != nil {
+		t.Fatal(err)
+	}
+	if err := g.wait(); err != nil {
+		t.Fatalf("wait: %v", err)
+	}
+	if b, err := os.ReadFile(path); err != nil || string(b) != "rows" {
+		t.Fatalf("committed file: %q, %v", b, err)
+	}
+	if _, err := os.Stat(path + tmpSuffix); !os.IsNotExist(err) {
+		t.Errorf("temporary file left: %v", err)
+	}
+
+	f, err = createAtomic(filepath.Join(dir, "lost.arrow"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f.File.Close() // the flush will fail
+	var bad syncGroup
+	if err := f.CommitTo(&bad); err != nil {
+		t.Fatal(err)
+	}
+	if err := bad.wait(); err == nil || !strings.Contains(err.Error(), "lost.arrow") {
+		t.Errorf("wait = %v, want a failure naming lost.arrow", err)
+	}
+	var none *syncGroup
+	if err := none.wait(); err != nil {
+		t.Errorf("nil group: %v", err)
+	}
+}

@@ -390,7 +390,7 @@ func MergeStudy(ctx context.Context, p *MergePlan, opt Options) (*Info, error) {
 			info.Started = m.Started
 		}
 	}
-	if err := mergeCases(ctx, p, filepath.Join(r.stage, CasesFile), r.opt, r.mem); err != nil {
+	if err := mergeCases(ctx, p, filepath.Join(r.stage, CasesFile), r.opt, r.mem, &r.durable); err != nil {
 		return nil, err
 	}
 	if in, err := sobolInputs(r); err != nil {
@@ -420,7 +420,7 @@ func MergeStudy(ctx context.Context, p *MergePlan, opt Options) (*Info, error) {
 // order, into an Arrow IPC file at path with the schema and writer
 // settings of [writeCases]. It checks each batch's schema, size and first
 // case index, and each shard's row count.
-func mergeCases(ctx context.Context, p *MergePlan, path string, opt Options, mem memory.Allocator) error {
+func mergeCases(ctx context.Context, p *MergePlan, path string, opt Options, mem memory.Allocator, g *syncGroup) error {
 	st := p.Study
 	schema := casesSchema(st, st.Model().Outputs(st.Report.PVI))
 	w, err := newIPCWriter(path, schema, mem)
@@ -476,7 +476,7 @@ func mergeCases(ctx context.Context, p *MergePlan, path string, opt Options, mem
 		return fmt.Errorf("%w: the shards hold %d cases, the study %d", ErrShards, next, st.Cases)
 	}
 	committed = true
-	return w.commit()
+	return w.commit(g)
 }
 
 // moveIn moves every file and folder of the staging folder stage into

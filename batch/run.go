@@ -206,7 +206,7 @@ func Run(ctx context.Context, st *studies.Study, opt Options) (*Info, error) {
 	start := r.now()
 	info := r.info
 	info.Started = start.UTC().Format(time.RFC3339)
-	rejected, sum, err := writeCases(ctx, st, r.design, filepath.Join(r.stage, CasesFile), 0, st.Cases, r.workers, r.opt, r.mem)
+	rejected, sum, err := writeCases(ctx, st, r.design, filepath.Join(r.stage, CasesFile), 0, st.Cases, r.workers, r.opt, r.mem, &r.durable)
 	if err != nil {
 		return nil, err
 	}
@@ -239,6 +239,9 @@ type studyRun struct {
 	stage   string // hidden staging folder beside final
 	info    *Info
 	lock    *folderLock
+	// durable flushes the large cases.arrow to disk while the summaries
+	// are computed from it; finish waits for it before run.json.
+	durable syncGroup
 }
 
 // newStudyRun applies the defaults of opt and builds st's design.
@@ -290,6 +293,7 @@ func (r *studyRun) discard() { os.RemoveAll(r.stage) }
 // end releases the claim on the study folder; after a failure it first
 // removes the staging folder.
 func (r *studyRun) end(ok bool) {
+	r.durable.wait() // a failure has been reported by finish, or ok is false
 	if !ok {
 		r.discard()
 	}
@@ -316,6 +320,10 @@ func (r *studyRun) finish(ctx context.Context, start, solved time.Time) error {
 			return err
 		}
 		info.SHA256[f] = sum
+	}
+	// Every file is on disk before run.json says the run is complete.
+	if err := r.durable.wait(); err != nil {
+		return err
 	}
 	info.Seconds["summaries"] = r.now().Sub(solved).Seconds()
 	info.Seconds["total"] = r.now().Sub(start).Seconds()
@@ -391,8 +399,9 @@ func swapIn(stage, final string) error {
 // them in case order into an Arrow IPC file, in record batches of
 // opt.BatchRows cases starting at lo. It returns the count of rejected
 // cases by status and the file's SHA-256 (lower-case hex). Memory is
-// bounded by 2·workers record batches.
-func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator) (map[string]int, string, error) {
+// bounded by 2·workers record batches. With a non-nil durable the file's
+// flush to disk is left to it (see atomicFile.CommitTo).
+func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator, durable *syncGroup) (map[string]int, string, error) {
 	outs := st.Model().Outputs(st.Report.PVI)
 	params := st.Model().Params() // the parameter columns, in schema order
 	schema := casesSchema(st, outs)
@@ -500,7 +509,7 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 		return nil, "", err
 	}
 	committed = true
-	if err := w.commit(); err != nil {
+	if err := w.commit(durable); err != nil {
 		return nil, "", err
 	}
 	return rejected, w.sha256(), nil
