@@ -305,6 +305,73 @@ func sortPairs(p, buf []rankPair) {
 	}
 }
 
+// spreadPairs sorts p as sortPairs does, for float keys (see orderKey)
+// of values without far outliers (transformed scores): one pass into 2^13
+// buckets of equal width in value, then each bucket by insertion, or by
+// sortPairs if more than 32 keys share it. The bucket of a value is a
+// non-decreasing function of it (rounding is monotone) and both passes keep
+// positions in order among equal keys, so the result is sortPairs'
+// exactly. buf is scratch of at least len(p).
+func spreadPairs(p, buf []rankPair) {
+	if len(p) < 64 {
+		insertPairs(p)
+		return
+	}
+	lo, hi := p[0].k, p[0].k
+	for _, x := range p {
+		lo, hi = min(lo, x.k), max(hi, x.k)
+	}
+	vlo, vhi := keyValue(lo), keyValue(hi)
+	const buckets = 1 << 13
+	scale := buckets / (vhi - vlo)
+	if lo == hi || !(scale > 0 && scale < math.Inf(1)) {
+		sortPairs(p, buf) // all tied, a range too narrow or too wide to scale
+		return
+	}
+	bucket := func(k uint64) int {
+		return min(int((keyValue(k)-vlo)*scale), buckets-1)
+	}
+	var count [buckets + 1]int32
+	for _, x := range p {
+		count[bucket(x.k)+1]++
+	}
+	for b := 1; b < len(count); b++ {
+		count[b] += count[b-1]
+	}
+	// count[b] is now where bucket b starts.
+	next := count
+	out := buf[:len(p)]
+	for _, x := range p {
+		b := bucket(x.k)
+		out[next[b]] = x
+		next[b]++
+	}
+	for b := range buckets {
+		s, e := count[b], count[b+1]
+		switch {
+		case e-s <= 1:
+		case e-s <= 32:
+			insertPairs(out[s:e])
+		default:
+			sortPairs(out[s:e], p[s:e])
+		}
+	}
+	copy(p, out)
+}
+
+// insertPairs sorts a few pairs by key, stably.
+func insertPairs(p []rankPair) {
+	for i := 1; i < len(p); i++ {
+		x := p[i]
+		k := i
+		for k > 0 && p[k-1].k > x.k {
+			p[k] = p[k-1]
+			k--
+		}
+		p[k] = x
+	}
+}
+
 // build imposes the target rank correlations on block b (Iman & Conover
 // 1982) and leaves in f.u[c][m] the uniform draw of case lo+m for correlated
 // parameter c. The block's values of each parameter are those its cases
@@ -329,15 +396,29 @@ func (f *Filler) build(b int) {
 	n, mc := hi-lo, len(d.corrIdx)
 	sc := d.scores(n)
 	pairs, buf, r := f.pairs[:n], f.buf[:n], f.r[:n*mc]
+	tmp := f.tmp[:n]
 	for c, j := range d.corrIdx {
 		p := &d.params[j]
-		for m := range pairs {
-			pairs[m] = rankPair{orderKey(d.uniform(p, lo+m)), int32(m)}
+		if d.method == LHS {
+			// A Latin hypercube draw lies strictly inside its stratum
+			// (see uniform), so the strata order the draws exactly: a key
+			// of log2(N) bits, which the radix sort needs fewer passes for
+			// than a float's.
+			for m := range pairs {
+				var s uint64
+				s, tmp[m] = d.lhsUniform(p, lo+m)
+				pairs[m] = rankPair{s, int32(m)}
+			}
+		} else {
+			for m := range pairs {
+				tmp[m] = d.uniform(p, lo+m)
+				pairs[m] = rankPair{orderKey(tmp[m]), int32(m)}
+			}
 		}
 		sortPairs(pairs, buf)
 		uc := f.u[c][:n]
 		for k, pr := range pairs {
-			uc[k] = keyValue(pr.k)
+			uc[k] = tmp[pr.i]
 			r[int(pr.i)*mc+c] = sc[k]
 		}
 	}
@@ -351,7 +432,6 @@ func (f *Filler) build(b int) {
 		f.block = b
 		return
 	}
-	tmp := f.tmp[:n]
 	for c := range mc {
 		row := f.s[c*mc : c*mc+c+1] // S is lower triangular
 		for m := range pairs {
@@ -362,7 +442,7 @@ func (f *Filler) build(b int) {
 			}
 			pairs[m] = rankPair{orderKey(v), int32(m)}
 		}
-		sortPairs(pairs, buf)
+		spreadPairs(pairs, buf)
 		uc := f.u[c][:n]
 		copy(tmp, uc)
 		for k, pr := range pairs {

@@ -1,8 +1,10 @@
 package sampler
 
 import (
+	"cmp"
 	"errors"
 	"math"
+	"math/rand/v2"
 	"slices"
 	"strings"
 	"testing"
@@ -192,6 +194,42 @@ func TestNormalScore(t *testing.T) {
 	for _, rho := range []float64{-0.99, -0.5, 0, 0.3, 0.8} {
 		if got := 6 / math.Pi * math.Asin(normalScore(rho)/2); math.Abs(got-rho) > 1e-12 {
 			t.Errorf("round trip of %v = %v", rho, got)
+		}
+	}
+}
+
+// TestPairSorts checks both pair sorts, the radix sort
+// and the bucket sort used for the transformed scores, against the
+// standard library's stable sort by key, on keys of every kind they may
+// meet: normal scores, heavy ties, one far outlier (all other keys in one
+// bucket), all equal, signed zeros, and short blocks.
+func TestPairSorts(t *testing.T) {
+	t.Parallel()
+	rng := rand.New(rand.NewPCG(1, 1))
+	gens := map[string]func(m int) float64{
+		"normal":  func(int) float64 { return rng.NormFloat64() },
+		"ties":    func(int) float64 { return float64(rng.IntN(7)) - 3 },
+		"outlier": func(m int) float64 { return map[bool]float64{true: 1e300, false: rng.Float64()}[m == 5] },
+		"equal":   func(int) float64 { return 0.25 },
+		"zeros":   func(m int) float64 { return map[bool]float64{true: math.Copysign(0, -1), false: 0}[m%3 == 0] },
+	}
+	for name, gen := range gens {
+		for _, n := range []int{1, 2, 63, 64, 100, 8192, 16383} {
+			p := make([]rankPair, n)
+			for m := range p {
+				p[m] = rankPair{orderKey(gen(m)), int32(m)}
+			}
+			want := slices.Clone(p)
+			slices.SortStableFunc(want, func(a, b rankPair) int { return cmp.Compare(a.k, b.k) })
+			radix, spread := slices.Clone(p), slices.Clone(p)
+			sortPairs(radix, make([]rankPair, n))
+			spreadPairs(spread, make([]rankPair, n))
+			if !slices.Equal(radix, want) {
+				t.Errorf("%s, %d keys: sortPairs differs from a stable sort", name, n)
+			}
+			if !slices.Equal(spread, want) {
+				t.Errorf("%s, %d keys: spreadPairs differs from a stable sort", name, n)
+			}
 		}
 	}
 }

@@ -341,9 +341,16 @@ func (d *Design) uniform(p *param, i int) float64 {
 	if d.method == Random {
 		return (float64(nth(p.rkey, uint64(i))>>12) + 0.5) * 0x1p-52
 	}
-	s := p.perm.at(uint64(i))
+	_, u := d.lhsUniform(p, i)
+	return u
+}
+
+// lhsUniform returns the stratum s = π(i) of case i's Latin hypercube
+// draw of p and the draw u itself (see uniform).
+func (d *Design) lhsUniform(p *param, i int) (s uint64, u float64) {
+	s = p.perm.at(uint64(i))
 	v := (float64(nth(p.jkey, uint64(i))>>d.jshift) + 0.5) * d.jscale
-	return (float64(s) + v) / float64(d.n)
+	return s, (float64(s) + v) / float64(d.n)
 }
 
 // Filler fills cases of one [Design]. It holds scratch space and the last
