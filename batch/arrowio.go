@@ -199,6 +199,36 @@ func (iw *ipcWriter) flush() error {
 	return nil
 }
 
+// write writes rec as one record batch; rec's schema must be the file's.
+// The bytes are written before write returns, so rec's buffers may be
+// reused afterwards.
+func (iw *ipcWriter) write(rec arrow.Record) error {
+	if rec.NumRows() == 0 {
+		return nil
+	}
+	if err := iw.w.Write(rec); err != nil {
+		return fmt.Errorf("writing %s: %w", iw.file.final, err)
+	}
+	return nil
+}
+
+// float64Array is an Arrow array over v itself, without copying: v must
+// not change while the array is in use.
+func float64Array(v []float64) *array.Float64 {
+	buf := memory.NewBufferBytes(arrow.Float64Traits.CastToBytes(v))
+	data := array.NewData(arrow.PrimitiveTypes.Float64, len(v), []*memory.Buffer{nil, buf}, nil, 0, 0)
+	defer data.Release()
+	return array.NewFloat64Data(data)
+}
+
+// int64Array is float64Array for int64 values.
+func int64Array(v []int64) *array.Int64 {
+	buf := memory.NewBufferBytes(arrow.Int64Traits.CastToBytes(v))
+	data := array.NewData(arrow.PrimitiveTypes.Int64, len(v), []*memory.Buffer{nil, buf}, nil, 0, 0)
+	defer data.Release()
+	return array.NewInt64Data(data)
+}
+
 // commit writes the footer and renames the file into place, its flush to
 // disk left to g when g is not nil (see atomicFile.CommitTo).
 func (iw *ipcWriter) commit(g *syncGroup) error {

@@ -93,6 +93,7 @@ type chunk struct {
 	in           [][]float64 // engine.NumParams columns, resolved by the model
 	out          [][]float64 // one column per output
 	status       []string
+	cases        []int64 // case numbers, filled by the writer
 	done         chan struct{}
 }
 
@@ -431,7 +432,7 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 	}
 	free := make(chan *chunk, 2*workers)
 	for range 2 * workers {
-		c := &chunk{in: make([][]float64, engine.NumParams), out: make([][]float64, len(outs)), status: make([]string, rows)}
+		c := &chunk{in: make([][]float64, engine.NumParams), out: make([][]float64, len(outs)), status: make([]string, rows), cases: make([]int64, rows)}
 		for j := range c.in {
 			c.in[j] = make([]float64, rows)
 		}
@@ -476,6 +477,8 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 	})
 
 	rejected := map[string]int{}
+	status := array.NewStringBuilder(mem)
+	defer status.Release()
 	var werr error
 	for c := range pending {
 		select {
@@ -483,10 +486,9 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 		case <-gctx.Done():
 		}
 		if werr == nil && gctx.Err() == nil {
-			werr = appendChunk(w.b, c, params, outs, rejected)
-			if werr == nil {
-				werr = w.flush()
-			}
+			rec := chunkRecord(schema, status, c, params, outs, rejected)
+			werr = w.write(rec)
+			rec.Release()
 			if werr != nil {
 				cancel() // stop solving what can no longer be written
 			} else if opt.Progress != nil {
@@ -515,29 +517,35 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 	return rejected, w.sha256(), nil
 }
 
-// appendChunk appends a solved chunk's rows to the record builder.
-func appendChunk(b *array.RecordBuilder, c *chunk, params []engine.Param, outs []engine.Output, rejected map[string]int) error {
+// chunkRecord returns a solved chunk's rows as a record of the cases
+// schema. The parameter and output columns are the chunk's own memory,
+// not copied: the record must be released before the chunk is reused.
+// status is the builder of the status column. It counts the rejected
+// cases by status into rejected.
+func chunkRecord(schema *arrow.Schema, status *array.StringBuilder, c *chunk, params []engine.Param, outs []engine.Output, rejected map[string]int) arrow.Record {
 	n := c.count
-	cases := b.Field(0).(*array.Int64Builder)
-	cases.Reserve(n)
+	cols := make([]arrow.Array, 0, len(schema.Fields()))
+	defer func() {
+		for _, a := range cols {
+			a.Release()
+		}
+	}()
 	for k := range n {
-		cases.UnsafeAppend(int64(c.start + k))
+		c.cases[k] = int64(c.start + k)
 	}
-	col := 1
+	cols = append(cols, int64Array(c.cases[:n]))
 	for _, p := range params {
-		b.Field(col).(*array.Float64Builder).AppendValues(c.in[p][:n], nil)
-		col++
+		cols = append(cols, float64Array(c.in[p][:n]))
 	}
 	for j := range outs {
-		b.Field(col).(*array.Float64Builder).AppendValues(c.out[j][:n], nil)
-		col++
+		cols = append(cols, float64Array(c.out[j][:n]))
 	}
-	sb := b.Field(col).(*array.StringBuilder)
-	sb.AppendValues(c.status[:n], nil)
+	status.AppendValues(c.status[:n], nil)
 	for _, s := range c.status[:n] {
 		if s != "ok" {
 			rejected[s]++
 		}
 	}
-	return nil
+	cols = append(cols, status.NewArray())
+	return array.NewRecord(schema, cols, int64(n))
 }
