@@ -229,7 +229,7 @@ func (w *walker) walk(a []uint64, base int) {
 		for e < len(a) && a[e]>>ib == p {
 			e++
 		}
-		if w.exact || e-s == 1 {
+		if w.exact || w.sameKeys(a[s:e]) {
 			tw := int32(2*base + s + 1 + e - m1)
 			i := uint32(a[s] & mask)
 			r.perm[base+s] = i
@@ -270,6 +270,20 @@ func (w *walker) walk(a []uint64, base int) {
 		w.run = run
 		s = e
 	}
+}
+
+// sameKeys reports whether the words of a run of equal kept bits hold
+// values with equal full keys: tied values (many zeros, say), which need
+// no second sort.
+func (w *walker) sameKeys(a []uint64) bool {
+	mask := uint64(1)<<uint(w.idxBits) - 1
+	k := floatKey(w.x[a[0]&mask])
+	for _, q := range a[1:] {
+		if floatKey(w.x[q&mask]) != k {
+			return false
+		}
+	}
+	return true
 }
 
 func cmpKeyed(p, q keyed) int {

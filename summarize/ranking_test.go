@@ -67,6 +67,15 @@ func rankColumns() []struct {
 			}
 			return 1 + float64(rng.IntN(1000))*0x1p-52
 		})},
+		// Mostly zeros (a water cut before breakthrough) beside values
+		// over hundreds of binades: one run of thousands of equal keys
+		// among runs whose kept bits agree although the values differ.
+		{"mostly zeros", gen(20_000, func(int) float64 {
+			if rng.IntN(5) > 0 {
+				return 0
+			}
+			return rng.Float64() * math.Exp(-float64(rng.IntN(700)))
+		})},
 		// Signed zeros (which tie), infinities and tiny values.
 		{"zeros and infinities", gen(2000, func(int) float64 {
 			return []float64{0, math.Copysign(0, -1), inf, -inf, 5e-324, -5e-324, 1, nan}[rng.IntN(8)]
