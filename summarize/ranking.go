@@ -161,7 +161,7 @@ func (rk *Ranker) sort(r *Ranking, x []float64, lo, hi uint64) {
 		p := (floatKey(v)-lo)>>shift<<idxBits | uint64(i)
 		src[j] = p
 		j++
-		count[p>>topShift&topMask]++
+		count[byte(p>>topShift)&byte(topMask)]++ // topW ≤ 8
 	}
 	if m < radixMin {
 		slices.Sort(src) // by kept bits, then row: the order the radix sort gives
@@ -177,7 +177,7 @@ func (rk *Ranker) sort(r *Ranking, x []float64, lo, hi uint64) {
 		pos[b], sum = sum, sum+c
 	}
 	for _, p := range src {
-		b := p >> topShift & topMask
+		b := byte(p>>topShift) & byte(topMask)
 		tmp[pos[b]] = p
 		pos[b]++
 	}
@@ -297,7 +297,11 @@ func cmpKeyed(p, q keyed) int {
 // below that down to idxBits, stably, with tmp (same length) as scratch,
 // and returns the slice (b or tmp) that holds the result: by insertion
 // below 64 values, else by the top digit of up to 12 bits (about two
-// counters per value) into tmp and each digit's values again.
+// counters per value) into tmp and each digit's values again, with the
+// counts of the next level in l's next scratch. Where every word has the
+// same top digit (ties, or a narrow range), the words' smallest and
+// largest give the highest bit that differs, and the sort goes on from
+// there.
 func (l *digitScratch) msd(b, tmp []uint64, idxBits, nbits int) []uint64 {
 	if len(b) < 64 {
 		insertionSort(b)
@@ -306,24 +310,29 @@ func (l *digitScratch) msd(b, tmp []uint64, idxBits, nbits int) []uint64 {
 	w := min(nbits, 12, bits.Len(uint(len(b)))+1)
 	sh := uint(idxBits + nbits - w)
 	mask := uint64(1)<<w - 1
-	c := l.count[:1<<w]
-	clear(c)
+	c := &l.count
+	clear(c[:1<<w])
 	for _, v := range b {
-		c[(v>>sh)&mask]++
+		c[(v>>sh)&mask&digitMask]++
 	}
-	if c[(b[0]>>sh)&mask] == uint32(len(b)) {
-		// One digit for all (ties, or a narrow range): on to the next.
-		if nbits == w {
-			return b
+	if c[(b[0]>>sh)&mask&digitMask] == uint32(len(b)) {
+		// One digit for all: skip to the highest bit that differs.
+		lo, hi := b[0], b[0]
+		for _, v := range b {
+			lo, hi = min(lo, v), max(hi, v)
 		}
-		return l.msd(b, tmp, idxBits, nbits-w)
+		rest := bits.Len64((lo ^ hi) >> uint(idxBits))
+		if rest == 0 {
+			return b // equal kept bits throughout
+		}
+		return l.msd(b, tmp, idxBits, rest)
 	}
 	var sum uint32
-	for k := range c {
+	for k := range c[:1<<w] {
 		c[k], sum = sum, sum+c[k]
 	}
 	for _, v := range b {
-		k := (v >> sh) & mask
+		k := (v >> sh) & mask & digitMask
 		tmp[c[k]] = v
 		c[k]++
 	}
@@ -333,14 +342,16 @@ func (l *digitScratch) msd(b, tmp []uint64, idxBits, nbits int) []uint64 {
 	// c[k] is now the end of digit k's values.
 	start := uint32(0)
 	for k := range 1 << w {
-		end := l.count[k]
+		end := c[k]
 		if end-start > 1 {
 			sub := tmp[start:end]
 			if len(sub) < 64 {
 				insertionSort(sub)
 			} else {
-				var sc digitScratch
-				if r := sc.msd(sub, b[start:end], idxBits, nbits-w); &r[0] != &sub[0] {
+				if l.next == nil {
+					l.next = new(digitScratch)
+				}
+				if r := l.next.msd(sub, b[start:end], idxBits, nbits-w); &r[0] != &sub[0] {
 					copy(sub, r)
 				}
 			}
@@ -363,10 +374,16 @@ func insertionSort(b []uint64) {
 	}
 }
 
-// digitScratch holds the digit counts of digitScratch.msd.
+// digitScratch holds the digit counts of one level of digitScratch.msd,
+// and the next level's scratch once it has been needed.
 type digitScratch struct {
-	count [1 << 12]uint32
+	count [digitMask + 1]uint32
+	next  *digitScratch
 }
+
+// digitMask bounds msd's digits (12 bits); masking an index with it lets
+// the compiler drop the bounds check.
+const digitMask = 1<<12 - 1
 
 // Compact frees the sorted order r keeps (4 of its 8 bytes per value),
 // keeping the ranks: Spearman's ρ needs no more when neither column has a

@@ -9,15 +9,13 @@ import (
 // floatKey maps a non-NaN float64 to a uint64 whose unsigned order is the
 // float order, with −0 and +0 mapped alike: flip every bit of a negative
 // number, only the sign bit of a positive one.
+//
+// It has no branches: v + 0 is v except that −0 becomes +0 (IEEE 754
+// round to nearest), and the sign bit, spread over the word, selects the
+// flip.
 func floatKey(v float64) uint64 {
-	if v == 0 {
-		return 1 << 63
-	}
-	b := math.Float64bits(v)
-	if b>>63 == 1 {
-		return ^b
-	}
-	return b | 1<<63
+	b := math.Float64bits(v + 0)
+	return b ^ (uint64(int64(b)>>63) | 1<<63)
 }
 
 // sortFloats sorts x, which holds no NaN, in increasing order in place,
