@@ -164,12 +164,12 @@ func TestBetaQuantileEdges(t *testing.T) {
 func TestBetaQuantileConcurrent(t *testing.T) {
 	t.Parallel()
 	probes := betaProbes(4000)
-	a, b := 1.234567, 4.765433 // a pair no other test builds
+	a, b := 1.234567, 4.765433
+	q := newBetaQuantile(a, b) // one table, fitted by all at once
 	got := make([][]float64, 4)
 	var wg sync.WaitGroup
 	for g := range got {
 		wg.Go(func() {
-			q := newBetaQuantile(a, b)
 			got[g] = make([]float64, len(probes))
 			for i := range probes {
 				k := (i + g*997) % len(probes) // each starts elsewhere
@@ -179,9 +179,7 @@ func TestBetaQuantileConcurrent(t *testing.T) {
 	}
 	wg.Wait()
 	// A second table of the same shapes, built alone in another order.
-	h := &betaHalf{exact: distuv.Beta{Alpha: a, Beta: b}}
-	hu := &betaHalf{exact: distuv.Beta{Alpha: b, Beta: a}}
-	alone := betaQuantile{lower: h, upper: hu}
+	alone := newBetaQuantile(a, b)
 	for i := len(probes) - 1; i >= 0; i-- {
 		want := alone.Quantile(probes[i])
 		for g := range got {
