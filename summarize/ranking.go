@@ -361,8 +361,9 @@ func (l *digitScratch) msd(b, tmp []uint64, idxBits, nbits int) []uint64 {
 	return tmp
 }
 
-// insertionSort sorts b by its whole words.
-func insertionSort(b []uint64) {
+// insertionSort sorts a few values in place: packed words by their whole
+// words, floats (no NaN) by value.
+func insertionSort[T uint64 | float64](b []T) {
 	for i := 1; i < len(b); i++ {
 		v := b[i]
 		k := i

@@ -8,15 +8,9 @@ import (
 
 // floatKey maps a non-NaN float64 to a uint64 whose unsigned order is the
 // float order, with −0 and +0 mapped alike: flip every bit of a negative
-// number, only the sign bit of a positive one.
-//
-// It has no branches: v + 0 is v except that −0 becomes +0 (IEEE 754
-// round to nearest), and the sign bit, spread over the word, selects the
-// flip.
-func floatKey(v float64) uint64 {
-	b := math.Float64bits(v + 0)
-	return b ^ (uint64(int64(b)>>63) | 1<<63)
-}
+// number, only the sign bit of a positive one. It is rawKey of v + 0, which is v except that −0 becomes +0 (IEEE 754
+// round to nearest): no branch.
+func floatKey(v float64) uint64 { return rawKey(v + 0) }
 
 // sortFloats sorts x, which holds no NaN, in increasing order in place,
 // allocating nothing: an in-place most-significant-digit radix sort
