@@ -133,7 +133,7 @@ func (h *betaHalf) fit(o int) {
 	}
 	var nodes, y [betaCoef]float64
 	for j := range nodes {
-		nodes[j] = math.Cos(math.Pi * float64(j) / betaDeg)
+		nodes[j] = chebCos[j][1]
 	}
 	width := math.Ldexp(1, -2-o-betaSplit)
 	for m := range betaCells {
@@ -180,7 +180,7 @@ func chebFit(y, dst []float64) {
 			if j == 0 || j == betaDeg {
 				w = 0.5
 			}
-			s += w * y[j] * math.Cos(math.Pi*float64(j*k)/betaDeg)
+			s += w * y[j] * chebCos[j][k]
 		}
 		cheb[k] = 2 * s / betaDeg
 	}
@@ -188,6 +188,17 @@ func chebFit(y, dst []float64) {
 	cheb[betaDeg] /= 2
 	chebToMonomial(cheb[:], dst)
 }
+
+// chebCos[j][k] is cos(πjk/betaDeg): the Lobatto points are chebCos[j][1]
+// and the discrete cosine transform of chebFit weighs by all of them.
+var chebCos = func() (c [betaCoef][betaCoef]float64) {
+	for j := range c {
+		for k := range c[j] {
+			c[j][k] = math.Cos(math.Pi * float64(j*k) / betaDeg)
+		}
+	}
+	return c
+}()
 
 // hornerComp evaluates Σ c_k t^k as s + e, s the plain Horner value and e
 // its rounding error to first order: every product and sum error is found
@@ -235,26 +246,21 @@ func ulp(x float64) float64 {
 // chebToMonomial writes the monomial coefficients of Σ c_k T_k(t) to dst,
 // by the recurrence T_{k+1} = 2t·T_k − T_{k−1}.
 func chebToMonomial(c, dst []float64) {
-	n := len(c)
-	prev, cur := make([]float64, n), make([]float64, n) // T_{k−1}, T_k
+	var prev, cur, next [betaCoef]float64 // T_{k−1}, T_k, T_{k+1}
 	clear(dst)
 	prev[0] = 1 // T_0
 	dst[0] += c[0]
-	if n == 1 {
-		return
-	}
 	cur[1] = 1 // T_1
 	dst[1] += c[1]
-	for k := 2; k < n; k++ {
-		next := make([]float64, n)
-		for i := range n {
+	for k := 2; k < len(c); k++ {
+		for i := range next {
 			v := -prev[i]
 			if i > 0 {
 				v += 2 * cur[i-1]
 			}
 			next[i] = v
 		}
-		for i := range n {
+		for i := range dst {
 			dst[i] += c[k] * next[i]
 		}
 		prev, cur = cur, next
