@@ -24,15 +24,25 @@ func benchLETs(cases []Params) []LET {
 func BenchmarkSolveCaseLET(b *testing.B) {
 	cases := benchCases(1024)
 	lets := benchLETs(cases)
+	rels := make([]RelPerm, len(cases))
+	for i := range cases {
+		rels[i] = &lets[i]
+	}
+	benchSolveRel(b, cases, rels)
+}
+
+// benchSolveRel solves cases[k] with the curves rels[k], round robin, at
+// the checkpoints and cut limit of BenchmarkSolveCase.
+func benchSolveRel(b *testing.B, cases []Params, rels []RelPerm) {
 	pvi := []float64{0.25, 0.5, 1, 2, 3}
 	var s Solver
 	var r Result
-	s.solveCaseRel(&cases[0], &lets[0], pvi, 0.98, &r)
+	s.solveCaseRel(&cases[0], rels[0], pvi, 0.98, &r)
 	b.ReportAllocs()
 	i := 0
 	for b.Loop() {
 		k := i % len(cases)
-		s.solveCaseRel(&cases[k], &lets[k], pvi, 0.98, &r)
+		s.solveCaseRel(&cases[k], rels[k], pvi, 0.98, &r)
 		i++
 	}
 	b.ReportMetric(float64(i)/b.Elapsed().Seconds(), "cases/s")
@@ -45,21 +55,10 @@ func BenchmarkSolveCaseTable(b *testing.B) {
 	cases := benchCases(1024)
 	s, kr1, kr2 := coreyRowsNoEnds(&Corey{S1r: 0.2, S2r: 0.2, Kr1Max: 0.4, Kr2Max: 0.9, N1: 2.5, N2: 1.8}, 21)
 	tab := mustTable(b, "bench", s, kr1, kr2)
-	rels := make([]ScaledTable, len(cases))
+	rels := make([]RelPerm, len(cases))
 	for i := range cases {
 		p := &cases[i]
-		rels[i] = ScaledTable{T: tab, S1r: p[S1r], S2r: p[S2r], Kr1Max: p[Kr1Max], Kr2Max: p[Kr2Max]}
+		rels[i] = &ScaledTable{T: tab, S1r: p[S1r], S2r: p[S2r], Kr1Max: p[Kr1Max], Kr2Max: p[Kr2Max]}
 	}
-	pvi := []float64{0.25, 0.5, 1, 2, 3}
-	var sv Solver
-	var r Result
-	sv.solveCaseRel(&cases[0], &rels[0], pvi, 0.98, &r)
-	b.ReportAllocs()
-	i := 0
-	for b.Loop() {
-		k := i % len(cases)
-		sv.solveCaseRel(&cases[k], &rels[k], pvi, 0.98, &r)
-		i++
-	}
-	b.ReportMetric(float64(i)/b.Elapsed().Seconds(), "cases/s")
+	benchSolveRel(b, cases, rels)
 }
