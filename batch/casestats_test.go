@@ -145,20 +145,9 @@ func TestColumnFileFallback(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			mem := memory.NewGoAllocator()
 			path := filepath.Join(t.TempDir(), "x.arrow")
-			f, err := os.Create(path)
-			if err != nil {
-				t.Fatal(err)
-			}
-			w, err := ipc.NewFileWriter(f, append([]ipc.Option{ipc.WithSchema(schema), ipc.WithAllocator(mem)}, tc.opts...)...)
-			if err != nil {
-				t.Fatal(err)
-			}
-			b := array.NewRecordBuilder(mem, schema)
-			defer b.Release()
 			var want []float64
-			for batch := range 3 {
+			writeTestIPC(t, path, memory.NewGoAllocator(), schema, tc.opts, 3, func(b *array.RecordBuilder, batch int) {
 				for i := range 400 {
 					v := float64(batch*1000 + i)
 					want = append(want, v)
@@ -169,19 +158,7 @@ func TestColumnFileFallback(t *testing.T) {
 						b.Field(1).(*array.Float64Builder).Append(-v)
 					}
 				}
-				rec := b.NewRecord()
-				err := w.Write(rec)
-				rec.Release()
-				if err != nil {
-					t.Fatal(err)
-				}
-			}
-			if err := w.Close(); err != nil {
-				t.Fatal(err)
-			}
-			if err := f.Close(); err != nil {
-				t.Fatal(err)
-			}
+			})
 			cf, err := openColumnFile(path, nil)
 			if err != nil {
 				t.Fatal(err)

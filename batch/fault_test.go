@@ -270,18 +270,8 @@ func TestCheckIPCAcceptsArrowFeatures(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
 			mem := memory.NewGoAllocator()
-			b := array.NewRecordBuilder(mem, schema)
-			defer b.Release()
 			path := filepath.Join(t.TempDir(), "x.arrow")
-			f, err := os.Create(path)
-			if err != nil {
-				t.Fatal(err)
-			}
-			w, err := ipc.NewFileWriter(f, append([]ipc.Option{ipc.WithSchema(schema), ipc.WithAllocator(mem)}, tc.opts...)...)
-			if err != nil {
-				t.Fatal(err)
-			}
-			for batch := range 3 {
+			writeTestIPC(t, path, mem, schema, tc.opts, 3, func(b *array.RecordBuilder, batch int) {
 				for i := range 500 {
 					b.Field(0).(*array.TimestampBuilder).Append(arrow.Timestamp(1_700_000_000_000 + i))
 					if err := b.Field(1).(*array.BinaryDictionaryBuilder).AppendString([]string{"ok", "rejected"}[i%2]); err != nil {
@@ -295,19 +285,7 @@ func TestCheckIPCAcceptsArrowFeatures(t *testing.T) {
 					sb.FieldBuilder(0).(*array.Int64Builder).Append(int64(batch))
 					sb.FieldBuilder(1).(*array.StringBuilder).Append("pad pad pad pad")
 				}
-				rec := b.NewRecord()
-				err := w.Write(rec)
-				rec.Release()
-				if err != nil {
-					t.Fatal(err)
-				}
-			}
-			if err := w.Close(); err != nil {
-				t.Fatal(err)
-			}
-			if err := f.Close(); err != nil {
-				t.Fatal(err)
-			}
+			})
 			fi, err := os.Stat(path)
 			if err != nil {
 				t.Fatal(err)
@@ -383,5 +361,37 @@ func TestCommitToDefersTheFlush(t *testing.T) {
 	var none *syncGroup
 	if err := none.wait(); err != nil {
 		t.Errorf("nil group: %v", err)
+	}
+}
+
+// writeTestIPC writes an Arrow IPC file of schema at path, with the writer
+// options opts, in batches record batches, fill appending batch k's rows.
+func writeTestIPC(t *testing.T, path string, mem memory.Allocator, schema *arrow.Schema, opts []ipc.Option, batches int, fill func(b *array.RecordBuilder, batch int)) {
+	t.Helper()
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	w, err := ipc.NewFileWriter(f, append([]ipc.Option{ipc.WithSchema(schema), ipc.WithAllocator(mem)}, opts...)...)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b := array.NewRecordBuilder(mem, schema)
+	defer b.Release()
+	for k := range batches {
+		fill(b, k)
+		rec := b.NewRecord()
+		err := w.Write(rec)
+		rec.Release()
+		if err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Close(); err != nil {
+		t.Fatal(err)
 	}
 }
