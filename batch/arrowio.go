@@ -11,12 +11,12 @@ import (
 	"os"
 	"path/filepath"
 	"strconv"
-	"sync"
 
 	"github.com/apache/arrow/go/v17/arrow"
 	"github.com/apache/arrow/go/v17/arrow/array"
 	"github.com/apache/arrow/go/v17/arrow/ipc"
 	"github.com/apache/arrow/go/v17/arrow/memory"
+	"golang.org/x/sync/errgroup"
 )
 
 // tmpSuffix marks a file that is still being written. Files are renamed to
@@ -42,18 +42,29 @@ func createAtomic(path string) (*atomicFile, error) {
 // Commit flushes, closes and renames the file to its final name.
 func (a *atomicFile) Commit() error { return a.CommitTo(nil) }
 
-// CommitTo is Commit with the flush to disk left to g when g is not nil:
-// the file is renamed at once and g flushes and closes it in the
-// background, reporting a failure from its wait. The caller must wait
-// for g before it treats the file as durable (before a staging folder
-// holding it replaces the final one).
-func (a *atomicFile) CommitTo(g *syncGroup) error {
+// CommitTo is Commit with the flush to disk left to g when g is not nil,
+// so that the summaries can read a large cases.arrow while the disk
+// catches up: the file is renamed at once and a goroutine of g flushes and
+// closes it, a failure coming back from g.Wait. The caller must wait for g
+// before it treats the file as durable (before a staging folder holding it
+// replaces the final one).
+func (a *atomicFile) CommitTo(g *errgroup.Group) error {
 	if g != nil {
 		if err := os.Rename(a.Name(), a.final); err != nil {
 			a.Abort()
 			return fmt.Errorf("writing %s: %w", a.final, err)
 		}
-		g.flush(a.File, a.final)
+		f, name := a.File, a.final
+		g.Go(func() error {
+			err := f.Sync()
+			if cerr := f.Close(); err == nil {
+				err = cerr
+			}
+			if err != nil {
+				return fmt.Errorf("writing %s: %w", name, err)
+			}
+			return nil
+		})
 		return nil
 	}
 	if err := a.File.Sync(); err != nil {
@@ -75,44 +86,6 @@ func (a *atomicFile) CommitTo(g *syncGroup) error {
 func (a *atomicFile) Abort() {
 	a.File.Close()
 	os.Remove(a.Name())
-}
-
-// syncGroup flushes files to disk in the background, so that the
-// summaries can read a large cases.arrow while the disk catches up.
-type syncGroup struct {
-	wg  sync.WaitGroup
-	mu  sync.Mutex
-	err error // the first failure
-}
-
-// flush syncs and closes f, whose final name is name, in a goroutine of
-// its own.
-func (g *syncGroup) flush(f *os.File, name string) {
-	g.wg.Go(func() {
-		err := f.Sync()
-		if cerr := f.Close(); err == nil {
-			err = cerr
-		}
-		if err != nil {
-			g.mu.Lock()
-			if g.err == nil {
-				g.err = fmt.Errorf("writing %s: %w", name, err)
-			}
-			g.mu.Unlock()
-		}
-	})
-}
-
-// wait waits for every flush begun and returns the first failure. A nil
-// group has nothing to wait for.
-func (g *syncGroup) wait() error {
-	if g == nil {
-		return nil
-	}
-	g.wg.Wait()
-	g.mu.Lock()
-	defer g.mu.Unlock()
-	return g.err
 }
 
 // writeFileAtomic writes data to path through a temporary file.
@@ -144,7 +117,6 @@ type ipcWriter struct {
 	file *atomicFile
 	hw   *hashingWriter
 	w    *ipc.FileWriter
-	b    *array.RecordBuilder
 }
 
 func newIPCWriter(path string, schema *arrow.Schema, mem memory.Allocator) (*ipcWriter, error) {
@@ -158,7 +130,7 @@ func newIPCWriter(path string, schema *arrow.Schema, mem memory.Allocator) (*ipc
 		f.Abort()
 		return nil, fmt.Errorf("writing %s: %w", path, err)
 	}
-	return &ipcWriter{file: f, hw: hw, w: w, b: array.NewRecordBuilder(mem, schema)}, nil
+	return &ipcWriter{file: f, hw: hw, w: w}, nil
 }
 
 // sha256 returns the lower-case hex SHA-256 of the bytes written, the
@@ -186,19 +158,6 @@ func (w *hashingWriter) Seek(offset int64, whence int) (int64, error) {
 	return w.f.Seek(0, io.SeekCurrent)
 }
 
-// flush writes the rows appended to the builder as one record batch.
-func (iw *ipcWriter) flush() error {
-	rec := iw.b.NewRecord()
-	defer rec.Release()
-	if rec.NumRows() == 0 {
-		return nil
-	}
-	if err := iw.w.Write(rec); err != nil {
-		return fmt.Errorf("writing %s: %w", iw.file.final, err)
-	}
-	return nil
-}
-
 // write writes rec as one record batch; rec's schema must be the file's.
 // The bytes are written before write returns, so rec's buffers may be
 // reused afterwards.
@@ -212,31 +171,18 @@ func (iw *ipcWriter) write(rec arrow.Record) error {
 	return nil
 }
 
-// float64Array is an Arrow array over v itself, without copying: v must
-// not change while the array is in use.
-func float64Array(v []float64) *array.Float64 {
-	buf := memory.NewBufferBytes(arrow.Float64Traits.CastToBytes(v))
-	data := array.NewData(arrow.PrimitiveTypes.Float64, len(v), []*memory.Buffer{nil, buf}, nil, 0, 0)
+// valuesArray is an Arrow array of type dt over v itself, without
+// copying: v must not change while the array is in use.
+func valuesArray[T float64 | int64](dt arrow.DataType, v []T) arrow.Array {
+	buf := memory.NewBufferBytes(arrow.GetBytes(v))
+	data := array.NewData(dt, len(v), []*memory.Buffer{nil, buf}, nil, 0, 0)
 	defer data.Release()
-	return array.NewFloat64Data(data)
-}
-
-// int64Array is float64Array for int64 values.
-func int64Array(v []int64) *array.Int64 {
-	buf := memory.NewBufferBytes(arrow.Int64Traits.CastToBytes(v))
-	data := array.NewData(arrow.PrimitiveTypes.Int64, len(v), []*memory.Buffer{nil, buf}, nil, 0, 0)
-	defer data.Release()
-	return array.NewInt64Data(data)
+	return array.MakeFromData(data)
 }
 
 // commit writes the footer and renames the file into place, its flush to
 // disk left to g when g is not nil (see atomicFile.CommitTo).
-func (iw *ipcWriter) commit(g *syncGroup) error {
-	defer iw.b.Release()
-	if err := iw.flush(); err != nil {
-		iw.file.Abort()
-		return err
-	}
+func (iw *ipcWriter) commit(g *errgroup.Group) error {
 	if err := iw.w.Close(); err != nil {
 		iw.file.Abort()
 		return fmt.Errorf("writing %s: %w", iw.file.final, err)
@@ -245,7 +191,6 @@ func (iw *ipcWriter) commit(g *syncGroup) error {
 }
 
 func (iw *ipcWriter) abort() {
-	iw.b.Release()
 	iw.w.Close()
 	iw.file.Abort()
 }
@@ -282,19 +227,28 @@ func writeTable(path string, t *Table, mem memory.Allocator) error {
 		}
 		fields[i] = field(t.Names[i], typ, t.Units[i])
 	}
-	w, err := newIPCWriter(path, arrow.NewSchema(fields, nil), mem)
+	schema := arrow.NewSchema(fields, nil)
+	w, err := newIPCWriter(path, schema, mem)
 	if err != nil {
 		return err
 	}
+	b := array.NewRecordBuilder(mem, schema)
+	defer b.Release()
 	for i, c := range t.Columns {
 		switch c := c.(type) {
 		case []string:
-			w.b.Field(i).(*array.StringBuilder).AppendValues(c, nil)
+			b.Field(i).(*array.StringBuilder).AppendValues(c, nil)
 		case []int64:
-			w.b.Field(i).(*array.Int64Builder).AppendValues(c, nil)
+			b.Field(i).(*array.Int64Builder).AppendValues(c, nil)
 		case []float64:
-			w.b.Field(i).(*array.Float64Builder).AppendValues(c, nil)
+			b.Field(i).(*array.Float64Builder).AppendValues(c, nil)
 		}
+	}
+	rec := b.NewRecord()
+	defer rec.Release()
+	if err := w.write(rec); err != nil {
+		w.abort()
+		return err
 	}
 	return w.commit(nil)
 }

@@ -374,23 +374,32 @@ func TestCaseStatsEdgeColumns(t *testing.T) {
 			}
 			mem := memory.NewGoAllocator()
 			path := filepath.Join(t.TempDir(), "edge.arrow")
-			w, err := newIPCWriter(path, arrow.NewSchema(fields, nil), mem)
+			schema := arrow.NewSchema(fields, nil)
+			w, err := newIPCWriter(path, schema, mem)
 			if err != nil {
 				t.Fatal(err)
+			}
+			b := array.NewRecordBuilder(mem, schema)
+			defer b.Release()
+			flush := func() { // the rows appended so far as one record batch
+				rec := b.NewRecord()
+				defer rec.Release()
+				if err := w.write(rec); err != nil {
+					t.Fatal(err)
+				}
 			}
 			cols := map[string][]float64{}
 			for i := range n {
 				for k, name := range names {
 					v := kinds[name](i)
 					cols[name] = append(cols[name], v)
-					w.b.Field(k).(*array.Float64Builder).Append(v)
+					b.Field(k).(*array.Float64Builder).Append(v)
 				}
 				if i%1000 == 999 {
-					if err := w.flush(); err != nil {
-						t.Fatal(err)
-					}
+					flush()
 				}
 			}
+			flush()
 			if err := w.commit(nil); err != nil {
 				t.Fatal(err)
 			}

@@ -420,7 +420,7 @@ func MergeStudy(ctx context.Context, p *MergePlan, opt Options) (*Info, error) {
 // order, into an Arrow IPC file at path with the schema and writer
 // settings of [writeCases]. It checks each batch's schema, size and first
 // case index, and each shard's row count.
-func mergeCases(ctx context.Context, p *MergePlan, path string, opt Options, mem memory.Allocator, g *syncGroup) error {
+func mergeCases(ctx context.Context, p *MergePlan, path string, opt Options, mem memory.Allocator, g *errgroup.Group) error {
 	st := p.Study
 	schema := casesSchema(st, st.Model().Outputs(st.Report.PVI))
 	w, err := newIPCWriter(path, schema, mem)
@@ -455,8 +455,8 @@ func mergeCases(ctx context.Context, p *MergePlan, path string, opt Options, mem
 			}
 			out := array.NewRecord(schema, rec.Columns(), rec.NumRows())
 			defer out.Release()
-			if err := w.w.Write(out); err != nil {
-				return fmt.Errorf("writing %s: %w", path, err)
+			if err := w.write(out); err != nil {
+				return err
 			}
 			rows += n
 			next += n

@@ -242,7 +242,7 @@ type studyRun struct {
 	lock    *folderLock
 	// durable flushes the large cases.arrow to disk while the summaries
 	// are computed from it; finish waits for it before run.json.
-	durable syncGroup
+	durable errgroup.Group
 }
 
 // newStudyRun applies the defaults of opt and builds st's design.
@@ -294,7 +294,7 @@ func (r *studyRun) discard() { os.RemoveAll(r.stage) }
 // end releases the claim on the study folder; after a failure it first
 // removes the staging folder.
 func (r *studyRun) end(ok bool) {
-	r.durable.wait() // a failure has been reported by finish, or ok is false
+	r.durable.Wait() // a failure has been reported by finish, or ok is false
 	if !ok {
 		r.discard()
 	}
@@ -323,7 +323,7 @@ func (r *studyRun) finish(ctx context.Context, start, solved time.Time) error {
 		info.SHA256[f] = sum
 	}
 	// Every file is on disk before run.json says the run is complete.
-	if err := r.durable.wait(); err != nil {
+	if err := r.durable.Wait(); err != nil {
 		return err
 	}
 	info.Seconds["summaries"] = r.now().Sub(solved).Seconds()
@@ -402,7 +402,7 @@ func swapIn(stage, final string) error {
 // cases by status and the file's SHA-256 (lower-case hex). Memory is
 // bounded by 2·workers record batches. With a non-nil durable the file's
 // flush to disk is left to it (see atomicFile.CommitTo).
-func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator, durable *syncGroup) (map[string]int, string, error) {
+func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator, durable *errgroup.Group) (map[string]int, string, error) {
 	outs := st.Model().Outputs(st.Report.PVI)
 	params := st.Model().Params() // the parameter columns, in schema order
 	schema := casesSchema(st, outs)
@@ -533,12 +533,12 @@ func chunkRecord(schema *arrow.Schema, status *array.StringBuilder, c *chunk, pa
 	for k := range n {
 		c.cases[k] = int64(c.start + k)
 	}
-	cols = append(cols, int64Array(c.cases[:n]))
+	cols = append(cols, valuesArray(arrow.PrimitiveTypes.Int64, c.cases[:n]))
 	for _, p := range params {
-		cols = append(cols, float64Array(c.in[p][:n]))
+		cols = append(cols, valuesArray(arrow.PrimitiveTypes.Float64, c.in[p][:n]))
 	}
 	for j := range outs {
-		cols = append(cols, float64Array(c.out[j][:n]))
+		cols = append(cols, valuesArray(arrow.PrimitiveTypes.Float64, c.out[j][:n]))
 	}
 	status.AppendValues(c.status[:n], nil)
 	for _, s := range c.status[:n] {
