@@ -75,6 +75,9 @@ func (q betaQuantile) Quantile(p float64) float64 {
 	return 1 - q.upper.at(1-p) // 1 − p is exact for p ≥ 1/2
 }
 
+// CDF returns P(X ≤ x), from gonum.
+func (q betaQuantile) CDF(x float64) float64 { return q.lower.exact.CDF(x) }
+
 // betaHalf is the tabulated quantile of one Beta(a, b) on p ≤ 1/2. Each
 // octave is fitted the first time a p falls in it (a run of n cases
 // reaches about log2(n) octaves), under mu; ready[o] is set once octave

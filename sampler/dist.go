@@ -131,15 +131,13 @@ func (d triangularDist) CDF(x float64) float64 { return d.t.CDF(x) }
 //
 // whose quantile comes from a [betaQuantile] table (α, β ≥ 1 always).
 type pertDist struct {
-	b        distuv.Beta // for the CDF
 	q        betaQuantile
 	min, max float64
 }
 
 func newPERT(min, mode, max float64) pertDist {
 	r := max - min
-	b := distuv.Beta{Alpha: 1 + 4*(mode-min)/r, Beta: 1 + 4*(max-mode)/r}
-	return pertDist{b: b, q: newBetaQuantile(b.Alpha, b.Beta), min: min, max: max}
+	return pertDist{q: newBetaQuantile(1+4*(mode-min)/r, 1+4*(max-mode)/r), min: min, max: max}
 }
 
 func (d pertDist) Quantile(p float64) float64 {
@@ -149,7 +147,7 @@ func (d pertDist) Quantile(p float64) float64 {
 	return clamp(d.min+(d.max-d.min)*d.q.Quantile(p), d.min, d.max)
 }
 
-func (d pertDist) CDF(x float64) float64 { return d.b.CDF((x - d.min) / (d.max - d.min)) }
+func (d pertDist) CDF(x float64) float64 { return d.q.CDF((x - d.min) / (d.max - d.min)) }
 
 // normalDist is a normal distribution, or a lognormal one (log set) whose
 // logarithm is normal(mu, sigma), truncated to the standardized range [a, b]
