@@ -115,3 +115,25 @@ func BenchmarkSpearmanEach(b *testing.B) {
 	}
 	b.ReportMetric(float64(n*d)*float64(b.N)/b.Elapsed().Seconds(), "pairs/s")
 }
+
+// BenchmarkRankStrata ranks a Latin hypercube column of a million
+// uniform draws from their strata, checking them.
+func BenchmarkRankStrata(b *testing.B) {
+	n := 1_000_000
+	rng := newRand(102)
+	x := make([]float64, n)
+	strata := make([]int32, n)
+	for i, s := range rng.Perm(n) {
+		strata[i] = int32(s)
+		x[i] = (float64(s) + 0.5) / float64(n)
+	}
+	pos := make([]int32, n)
+	var rk Ranker
+	for b.Loop() {
+		copy(pos, strata) // RankStrata takes pos over
+		if _, ok := rk.RankStrata(x, pos); !ok {
+			b.Fatal("positions refused")
+		}
+	}
+	b.ReportMetric(float64(n)*float64(b.N)/b.Elapsed().Seconds(), "values/s")
+}

@@ -30,6 +30,9 @@ type Ranking struct {
 	twice []int32
 	nan   []uint64 // bit i set when row i is NaN; nil when none is
 	sumSq float64  // Σ twice[i]², summed in row order
+	// distinct is set when no value is NaN and none ties (RankStrata):
+	// twice[i] = 2p + 1 − n for the sorted position p of row i.
+	distinct bool
 
 	// compact is set by Compact: perm is rebuilt from twice, once, the
 	// first time it is needed.
@@ -128,6 +131,65 @@ func (rk *Ranker) RankInto(dst *Ranking, x []float64) *Ranking {
 	}
 	r.sumSq = sumSquares(r.twice)
 	return r
+}
+
+// RankStrata returns the [Ranking] of x, the one [Ranker.Rank] gives,
+// from a claimed order instead of a sort: pos[i] is the 0-based position
+// of x[i] among the values in increasing order. A Latin hypercube column
+// knows it without sorting: its values are the quantiles of one draw per
+// stratum, and the quantile function does not decrease, so the stratum of
+// a draw is its position (see sampler.Filler.FillStrata).
+//
+// The claim is checked first: pos must be a permutation of [0, len(x)),
+// no value NaN, and the values placed at their positions must increase
+// strictly. Tied values fail the check (a Ranking orders ties by row,
+// which a stratum does not say), as does a quantile rounded out of order.
+// When the check fails ok is false, r is nil and pos is as it was: rank x
+// with [Ranker.Rank].
+//
+// When it holds, the Ranking takes pos over: it keeps the doubled ranks
+// in pos's memory (pos must not be used after), and it is compact (see
+// [Ranking.Compact]), so it needs no memory of its own but a header.
+// [Ranking.Head] of it costs no order rebuilt.
+//
+// RankStrata panics if pos's length is not x's.
+func (rk *Ranker) RankStrata(x []float64, pos []int32) (r *Ranking, ok bool) {
+	n := len(x)
+	if len(pos) != n {
+		panic("summarize: slice length mismatch")
+	}
+	if n > maxRankLen {
+		panic("summarize: too many values to rank")
+	}
+	if cap(rk.buf) < n {
+		rk.buf = make([]uint64, n)
+	}
+	// The keys in claimed order. No value's key is 0 (that would be a
+	// NaN's), so a position left 0 was not claimed by any row.
+	keys := rk.buf[:n]
+	clear(keys)
+	for i, v := range x {
+		p := pos[i]
+		if p < 0 || int(p) >= n || v != v {
+			return nil, false
+		}
+		keys[p] = floatKey(v)
+	}
+	last := uint64(0)
+	for _, k := range keys {
+		if k <= last {
+			return nil, false
+		}
+		last = k
+	}
+	// Mid-rank p+1, no value tied: twice = 2·(p + 1) − (n + 1).
+	twice := pos
+	for i, p := range pos {
+		twice[i] = int32(2*int(p) + 1 - n)
+	}
+	r = &Ranking{n: n, m: n, twice: twice, distinct: true, sumSq: sumSquares(twice)}
+	r.Compact()
+	return r, true
 }
 
 // sort fills r.perm and r.twice for the m non-NaN values of x, whose keys
@@ -502,6 +564,9 @@ func (r *Ranking) Head(k int) *Ranking {
 	if k == r.n {
 		return r
 	}
+	if r.distinct && r.compact {
+		return r.headDistinct(k)
+	}
 	h := &Ranking{n: k, twice: make([]int32, k)}
 	for i := range k {
 		if r.isNaN(i) {
@@ -538,6 +603,33 @@ func (r *Ranking) Head(k int) *Ranking {
 		broken = false
 	}
 	h.setGroup(start, len(h.perm), m1)
+	h.sumSq = sumSquares(h.twice)
+	return h
+}
+
+// headDistinct is Head(k) of a compact Ranking of distinct values from
+// the sorted positions its ranks encode: the position of row i < k among
+// the first k rows is the number of their positions below its own, read
+// from a bit set of those positions with a running count per word.
+func (r *Ranking) headDistinct(k int) *Ranking {
+	n := r.n
+	set := make([]uint64, (n+63)/64)
+	for _, t := range r.twice[:k] {
+		p := (int(t) + n - 1) / 2
+		set[p/64] |= 1 << (p % 64)
+	}
+	below := make([]int32, len(set))
+	c := 0
+	for w, b := range set {
+		below[w] = int32(c)
+		c += bits.OnesCount64(b)
+	}
+	h := &Ranking{n: k, m: k, twice: make([]int32, k), distinct: true, compact: true}
+	for i, t := range r.twice[:k] {
+		p := (int(t) + n - 1) / 2
+		q := int(below[p/64]) + bits.OnesCount64(set[p/64]&(1<<(p%64)-1))
+		h.twice[i] = int32(2*q + 1 - k)
+	}
 	h.sumSq = sumSquares(h.twice)
 	return h
 }

@@ -506,3 +506,106 @@ func TestRankingPanics(t *testing.T) {
 		})
 	}
 }
+
+// oraclePositions returns each row's position in x sorted by value, tied
+// values by row (sort.SliceStable, independent of the radix sort), and
+// whether x has a NaN or two values that tie (−0 and +0 included).
+func oraclePositions(x []float64) (pos []int32, tiesOrNaN bool) {
+	idx := make([]int, len(x))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.SliceStable(idx, func(a, b int) bool { return x[idx[a]] < x[idx[b]] })
+	pos = make([]int32, len(x))
+	for k, i := range idx {
+		pos[i] = int32(k)
+		if math.IsNaN(x[i]) || k > 0 && x[idx[k-1]] == x[i] {
+			tiesOrNaN = true
+		}
+	}
+	return pos, tiesOrNaN
+}
+
+// TestRankStrata: ranking from claimed positions gives, when the claim
+// holds, the Ranking that Rank gives (order, mid-ranks against the
+// counting oracle, ρ, heads, sorted values), and refuses every claim that
+// does not hold, leaving the positions as they were: ties, NaN, repeated
+// or out-of-range positions, two values out of order.
+func TestRankStrata(t *testing.T) {
+	t.Parallel()
+	var rk Ranker
+	cols := rankColumns()
+	rng := newRand(44)
+	spread := make([]float64, 50_000)
+	for i, s := range rng.Perm(len(spread)) {
+		spread[i] = math.Exp(float64(s)/1000) - 20 // distinct, either sign
+	}
+	cols = append(cols, struct {
+		name string
+		x    []float64
+	}{"distinct", spread})
+	for _, tc := range cols {
+		pos, refused := oraclePositions(tc.x)
+		r, ok := rk.RankStrata(tc.x, slices.Clone(pos))
+		if ok == refused {
+			t.Fatalf("%s: ok = %v with ties or NaN = %v", tc.name, ok, refused)
+		}
+		if !ok {
+			if r != nil {
+				t.Errorf("%s: refused with a Ranking", tc.name)
+			}
+			continue
+		}
+		want := Rank(tc.x)
+		if !slices.Equal(r.twice, want.twice) || r.n != want.n || r.m != want.m || r.nan != nil || !sameBits(r.sumSq, want.sumSq) {
+			t.Fatalf("%s: Ranking differs from Rank's", tc.name)
+		}
+		got, oracle := r.Ranks(nil), oracleRanks(tc.x)
+		for i := range oracle {
+			if !sameBits(got[i], oracle[i]) {
+				t.Fatalf("%s row %d: rank %v, oracle %v", tc.name, i, got[i], oracle[i])
+			}
+		}
+		for _, k := range []int{0, len(tc.x) / 3, len(tc.x) - 1, len(tc.x)} {
+			k = max(k, 0)
+			h, hw := r.Head(k), want.Head(k)
+			if !slices.Equal(h.Ranks(nil), oracleRanks(tc.x[:k])) || !slices.Equal(h.twice, hw.twice) || !sameBits(h.sumSq, hw.sumSq) {
+				t.Errorf("%s: head of %d ranks differ from the oracle's or Rank's", tc.name, k)
+			}
+		}
+		if rho, n := SpearmanRanked(r, want); len(tc.x) > 1 && (rho != 1 || n != len(tc.x)) {
+			t.Errorf("%s: ρ with Rank's Ranking %v over %d", tc.name, rho, n)
+		}
+		if !slices.Equal(r.Sorted(tc.x, nil), sortedValid(tc.x)) || !slices.Equal(r.order(), want.perm) {
+			t.Errorf("%s: sorted values or order differ", tc.name)
+		}
+		if len(tc.x) < 2 {
+			continue
+		}
+		// Claims that do not hold.
+		bad := func(what string, edit func(p []int32)) {
+			p := slices.Clone(pos)
+			edit(p)
+			claim := slices.Clone(p)
+			if r, ok := rk.RankStrata(tc.x, p); ok || r != nil {
+				t.Errorf("%s: %s accepted", tc.name, what)
+			}
+			if !slices.Equal(p, claim) {
+				t.Errorf("%s: %s: positions changed", tc.name, what)
+			}
+		}
+		first := slices.Index(pos, 0)
+		second := slices.Index(pos, 1)
+		bad("two values out of order", func(p []int32) { p[first], p[second] = 1, 0 })
+		bad("a repeated position", func(p []int32) { p[first] = 1 })
+		bad("a position past the end", func(p []int32) { p[first] = int32(len(p)) })
+		bad("a negative position", func(p []int32) { p[first] = -1 })
+	}
+	// A short pos is a programming error.
+	defer func() {
+		if recover() == nil {
+			t.Error("RankStrata with a short pos did not panic")
+		}
+	}()
+	rk.RankStrata([]float64{1, 2}, []int32{0})
+}
