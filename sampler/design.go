@@ -2,6 +2,7 @@ package sampler
 
 import (
 	"fmt"
+	"math"
 	"math/bits"
 	"slices"
 	"strings"
@@ -400,7 +401,53 @@ func (d *Design) Fill(start, count int, cols [][]float64) { d.NewFiller().Fill(s
 // how the range is split or which Filler fills it. Fill panics if the range
 // is not within [0, N), len(cols) is not the number of parameters or a
 // column is shorter than count.
-func (f *Filler) Fill(start, count int, cols [][]float64) {
+func (f *Filler) Fill(start, count int, cols [][]float64) { f.fill(start, count, cols, nil) }
+
+// Stratified reports whether parameter j is drawn once per stratum: by
+// Latin hypercube sampling, with a distribution of its own (not fixed,
+// not same_as). Its N draws then lie one in each of the N strata
+// [s/N, (s+1)/N) of the unit interval, rank correlations imposed or not
+// (they only pair the draws differently), and [Filler.FillStrata] tells
+// which draw lies in which.
+func (d *Design) Stratified(j int) bool {
+	k := d.params[j].kind
+	return d.method == LHS && k != Fixed && k != SameAs
+}
+
+// FillStrata is [Filler.Fill] that also writes, for every parameter j with
+// a non-nil strata[j], the stratum of each case's draw: strata[j][k] = s
+// when the uniform behind parameter j of case start+k lies in
+// [s/N, (s+1)/N). Over all N cases the strata of a parameter are a
+// permutation of [0, N), and as a quantile function does not decrease,
+// the stratum of a value is its 0-based position among the parameter's
+// values in increasing order, up to ties and rounding (which a caller
+// relying on it checks: see summarize.Ranker.RankStrata).
+//
+// FillStrata panics, besides as Fill does, if len(strata) is not the
+// number of parameters, a non-nil strata[j] is shorter than count, or
+// belongs to a parameter that is not [Design.Stratified], or N exceeds
+// 2³¹ − 1 (a stratum would not fit an int32).
+func (f *Filler) FillStrata(start, count int, cols [][]float64, strata [][]int32) {
+	d := f.d
+	if len(strata) != len(d.params) {
+		panic("sampler: FillStrata needs one strata slice per parameter")
+	}
+	for j, st := range strata {
+		switch {
+		case st == nil:
+		case !d.Stratified(j):
+			panic("sampler: FillStrata of a parameter that is not stratified")
+		case len(st) < count:
+			panic("sampler: FillStrata strata slice shorter than count")
+		case d.n > math.MaxInt32:
+			panic("sampler: FillStrata with more than 2³¹ − 1 cases")
+		}
+	}
+	f.fill(start, count, cols, strata)
+}
+
+// fill is Fill, writing the strata too when strata is not nil.
+func (f *Filler) fill(start, count int, cols [][]float64, strata [][]int32) {
 	d := f.d
 	if start < 0 || count < 0 || start > d.n-count {
 		panic("sampler: Fill range out of [0, N)")
@@ -412,6 +459,12 @@ func (f *Filler) Fill(start, count int, cols [][]float64) {
 		if len(cols[j]) < count {
 			panic("sampler: Fill column shorter than count")
 		}
+	}
+	stratum := func(j int) []int32 {
+		if strata == nil {
+			return nil
+		}
+		return strata[j]
 	}
 	for j := range d.params {
 		p := &d.params[j]
@@ -430,10 +483,15 @@ func (f *Filler) Fill(start, count int, cols [][]float64) {
 			}
 		default:
 			fn := float64(d.n)
+			st := stratum(j)
 			for k := range col {
 				i := uint64(start + k)
+				s := p.perm.at(i)
 				v := (float64(nth(p.jkey, i)>>d.jshift) + 0.5) * d.jscale
-				col[k] = p.dist.Quantile((float64(p.perm.at(i)) + v) / fn)
+				col[k] = p.dist.Quantile((float64(s) + v) / fn)
+				if st != nil {
+					st[k] = int32(s)
+				}
 			}
 		}
 	}
@@ -448,6 +506,15 @@ func (f *Filler) Fill(start, count int, cols [][]float64) {
 				dist, u, col := d.params[j].dist, f.u[c], cols[j]
 				for ii := i; ii < seg; ii++ {
 					col[ii-start] = dist.Quantile(u[ii-lo])
+				}
+				if st := stratum(j); st != nil {
+					// u·N rounds to within N·u·2⁻⁵² < 2^(k−52) of the
+					// exact s + v, which lies at least 2^(k−51) inside
+					// stratum s (see uniform): the floor is s.
+					fn := float64(d.n)
+					for ii := i; ii < seg; ii++ {
+						st[ii-start] = int32(u[ii-lo] * fn)
+					}
 				}
 			}
 			i = seg

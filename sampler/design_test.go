@@ -390,3 +390,113 @@ func TestBlocks(t *testing.T) {
 		}
 	}
 }
+
+// TestFillStrata: FillStrata writes the values Fill writes and, for each
+// stratified parameter, the stratum of every draw: the one its value maps
+// back to through the closed-form CDF (the test oracles), so the strata
+// are a permutation of [0, N) and the values increase with the stratum
+// (the order summarize.Ranker.RankStrata relies on), with and without rank
+// correlations, filled in random slices.
+func TestFillStrata(t *testing.T) {
+	t.Parallel()
+	corr := []Correlation{{"n1", "n2", 0.4}, {"kr1_max", "mu2_cp", -0.6}, {"s2r", "n1", 0.3}, {"perm_md", "dip_deg", 0.5}}
+	for _, c := range []struct {
+		name  string
+		n     int
+		corr  []Correlation
+		block int
+	}{
+		{"n=1", 1, nil, BlockSize},
+		{"n=5000", 5000, nil, BlockSize},
+		{"corr n=3 (singular blocks)", 3, corr, BlockSize},
+		{"corr n=5000 blocks of 700", 5000, corr, 700},
+		{"corr n=20000 public blocks", 20000, corr, BlockSize},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
+			specs := mixedSpecs()
+			d := mustNew(t, specs, LHS, 3, c.n, c.corr, c.block)
+			want := fillAll(d)
+			cols := newCols(d.NumParams(), d.N())
+			strata := make([][]int32, d.NumParams())
+			for j, s := range specs {
+				if got := d.Stratified(j); got != (s.Kind != Fixed && s.Kind != SameAs) {
+					t.Fatalf("%s: Stratified = %v", s.Name, got)
+				}
+				if d.Stratified(j) {
+					strata[j] = make([]int32, d.N())
+				}
+			}
+			rng := rand.New(rand.NewPCG(2, 2))
+			for lo := 0; lo < d.N(); {
+				hi := min(d.N(), lo+1+rng.IntN(3000))
+				sub, ssub := make([][]float64, len(cols)), make([][]int32, len(cols))
+				for j := range cols {
+					sub[j] = cols[j][lo:hi]
+					if strata[j] != nil {
+						ssub[j] = strata[j][lo:hi]
+					}
+				}
+				d.NewFiller().FillStrata(lo, hi-lo, sub, ssub)
+				lo = hi
+			}
+			for j, s := range specs {
+				for i := range want[j] {
+					if math.Float64bits(cols[j][i]) != math.Float64bits(want[j][i]) {
+						t.Fatalf("%s case %d: FillStrata %v, Fill %v", s.Name, i, cols[j][i], want[j][i])
+					}
+				}
+				if strata[j] == nil {
+					continue
+				}
+				cdf := oracleOf(s).cdf
+				at := make([]int, d.N()) // case of each stratum
+				for i := range at {
+					at[i] = -1
+				}
+				for i, st := range strata[j] {
+					if f := int(math.Floor(cdf(cols[j][i]) * float64(d.N()))); f != int(st) {
+						t.Fatalf("%s case %d: stratum %d, F(x)·N = %d", s.Name, i, st, f)
+					}
+					if at[st] >= 0 {
+						t.Fatalf("%s: cases %d and %d both in stratum %d", s.Name, at[st], i, st)
+					}
+					at[st] = i
+				}
+				for s := 1; s < len(at); s++ {
+					if !(cols[j][at[s-1]] < cols[j][at[s]]) {
+						t.Fatalf("%s: stratum %d holds %v, stratum %d %v", specs[j].Name, s-1, cols[j][at[s-1]], s, cols[j][at[s]])
+					}
+				}
+			}
+		})
+	}
+}
+
+func TestFillStrataPanics(t *testing.T) {
+	t.Parallel()
+	specs := []Spec{uni("a", 0, 1), fixed("b", 2), follow("c", "a")}
+	lhs := mustNew(t, specs, LHS, 1, 10, nil, BlockSize)
+	random := mustNew(t, specs, Random, 1, 10, nil, BlockSize)
+	for _, c := range []struct {
+		name   string
+		d      *Design
+		strata [][]int32
+	}{
+		{"random method", random, [][]int32{make([]int32, 10), nil, nil}},
+		{"fixed", lhs, [][]int32{nil, make([]int32, 10), nil}},
+		{"same_as", lhs, [][]int32{nil, nil, make([]int32, 10)}},
+		{"short", lhs, [][]int32{make([]int32, 9), nil, nil}},
+		{"too few slices", lhs, [][]int32{nil}},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
+			defer func() {
+				if r := recover(); r == nil || !strings.HasPrefix(r.(string), "sampler: ") {
+					t.Errorf("recovered %v, want a sampler panic", r)
+				}
+			}()
+			c.d.NewFiller().FillStrata(0, 10, newCols(3, 10), c.strata)
+		})
+	}
+}
