@@ -69,7 +69,7 @@ func BenchmarkPostSolve(b *testing.B) {
 	n := 0
 	for b.Loop() {
 		files := info.Files
-		err := writeSummaries(context.Background(), st, design, dir, runtime.NumCPU(), Options{}, memory.DefaultAllocator, info)
+		err := writeSummaries(context.Background(), st, design, dir, runtime.NumCPU(), Options{}, memory.DefaultAllocator, info, nil)
 		info.Files = files
 		if err != nil {
 			b.Fatal(err)

@@ -34,6 +34,11 @@ type statsPlan struct {
 	// spearmanRows and corrRows, when positive, replace SpearmanMaxRows
 	// and CorrelationMaxRows (tests).
 	spearmanRows, corrRows int
+	// strata, when known, are the design's strata of parameter columns
+	// (one per row): such a column ranked over every row is ranked from
+	// them (summarize.Ranker.RankStrata), or sorted if they do not order
+	// its values.
+	strata map[string][]int32
 }
 
 // caseStats are the results of a statsPlan.
@@ -376,7 +381,13 @@ func paramColumn(ctx context.Context, cf *columnFile, name string, spearman, cor
 	if err != nil || !spearman && !corr {
 		return err
 	}
-	rk := sc.rank.Rank(sc.col)
+	var rk *summarize.Ranking
+	if pos := plan.strata[name]; len(pos) > 0 && len(pos) == len(sc.col) {
+		rk, _ = sc.rank.RankStrata(sc.col, pos)
+	}
+	if rk == nil {
+		rk = sc.rank.Rank(sc.col)
+	}
 	if corr {
 		r.corr = rk.Head(corrRows).Ranks(nil)
 	}

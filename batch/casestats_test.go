@@ -16,6 +16,7 @@ import (
 	"github.com/apache/arrow/go/v17/arrow/memory"
 
 	"github.com/sweepstat/sweepstat/engine"
+	"github.com/sweepstat/sweepstat/sampler"
 	"github.com/sweepstat/sweepstat/studies"
 	"github.com/sweepstat/sweepstat/summarize"
 )
@@ -268,6 +269,19 @@ func TestCaseStatsAgainstReference(t *testing.T) {
 			if !sameCaseStats(got, results[1]) {
 				t.Error("1 and 3 workers give different statistics")
 			}
+			if tc.spear == 0 {
+				// With the design's strata, as Run passes them: the inputs
+				// ranked from their strata, the same statistics.
+				plan.strata = runStrata(t, st, design, cols)
+				s, err := computeCaseStats(context.Background(), cf, plan, 2, func() {})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if !sameCaseStats(got, s) {
+					t.Error("ranking the inputs from their strata gives different statistics")
+				}
+				plan.strata = nil
+			}
 			if got.rows != rows {
 				t.Errorf("rows = %d, want %d", got.rows, rows)
 			}
@@ -339,6 +353,42 @@ func TestCaseStatsAgainstReference(t *testing.T) {
 			}
 		})
 	}
+}
+
+// runStrata returns the strata Run keeps for st (caseStrata, filled as
+// writeCases fills them) by input name, after checking that every input
+// but a discrete one (whose values tie) is ranked from them: cols are the
+// columns of st's cases file.
+func runStrata(t *testing.T, st *studies.Study, d *sampler.Design, cols map[string][]float64) map[string][]int32 {
+	t.Helper()
+	strata := caseStrata(st, d)
+	if strata == nil {
+		t.Fatal("no strata kept for an LHS study")
+	}
+	d.NewFiller().FillStrata(0, d.N(), newDesignCols(d), strata)
+	specs := st.Specs()
+	byName := map[string][]int32{}
+	var rk summarize.Ranker
+	for j, s := range strata {
+		if s == nil {
+			continue
+		}
+		name := engine.Param(j).String()
+		byName[name] = s
+		_, ok := rk.RankStrata(cols[name], slices.Clone(s))
+		if want := specs[j].Kind != sampler.Discrete; ok != want {
+			t.Errorf("%s (%v): ranked from its strata %v, want %v", name, specs[j].Kind, ok, want)
+		}
+	}
+	return byName
+}
+
+func newDesignCols(d *sampler.Design) [][]float64 {
+	cols := make([][]float64, d.NumParams())
+	for j := range cols {
+		cols[j] = make([]float64, d.N())
+	}
+	return cols
 }
 
 // TestCaseStatsEdgeColumns describes columns of every awkward kind (both

@@ -19,6 +19,7 @@ import (
 	"github.com/sweepstat/sweepstat/engine"
 	"github.com/sweepstat/sweepstat/sampler"
 	"github.com/sweepstat/sweepstat/studies"
+	"github.com/sweepstat/sweepstat/summarize"
 )
 
 // File names inside a study's output folder (DESIGN §6).
@@ -103,6 +104,8 @@ type worker struct {
 	solver engine.Solver
 	res    engine.Result
 	lay    *caseLayout
+	strata [][]int32 // the run's strata (nil: none kept) …
+	sub    [][]int32 // … and the chunk's part of them
 }
 
 // caseLayout says how a sampled row becomes engine inputs, worked out once
@@ -131,7 +134,16 @@ func newCaseLayout(st *studies.Study, specs []sampler.Spec) *caseLayout {
 
 // solveChunk samples and solves the cases of c.
 func (w *worker) solveChunk(st *studies.Study, outs []engine.Output, c *chunk) {
-	w.fill.Fill(c.start, c.count, c.in)
+	if w.strata != nil {
+		for j, s := range w.strata {
+			if s != nil {
+				w.sub[j] = s[c.start : c.start+c.count]
+			}
+		}
+		w.fill.FillStrata(c.start, c.count, c.in, w.sub)
+	} else {
+		w.fill.Fill(c.start, c.count, c.in)
+	}
 	lay := w.lay
 	for k := range c.count {
 		p := lay.base
@@ -207,7 +219,8 @@ func Run(ctx context.Context, st *studies.Study, opt Options) (*Info, error) {
 	start := r.now()
 	info := r.info
 	info.Started = start.UTC().Format(time.RFC3339)
-	rejected, sum, err := writeCases(ctx, st, r.design, filepath.Join(r.stage, CasesFile), 0, st.Cases, r.workers, r.opt, r.mem, &r.durable)
+	r.strata = caseStrata(st, r.design)
+	rejected, sum, err := writeCases(ctx, st, r.design, filepath.Join(r.stage, CasesFile), 0, st.Cases, r.workers, r.opt, r.mem, &r.durable, r.strata)
 	if err != nil {
 		return nil, err
 	}
@@ -243,6 +256,36 @@ type studyRun struct {
 	// durable flushes the large cases.arrow to disk while the summaries
 	// are computed from it; finish waits for it before run.json.
 	durable errgroup.Group
+	// strata are the design's strata of the Spearman inputs, by design
+	// column, when writeCases kept them (see caseStrata).
+	strata [][]int32
+}
+
+// caseStrata returns, by design column, a slice of N strata for each
+// Spearman input of st that d stratifies, nil elsewhere, for writeCases to
+// fill: the summaries then rank those columns from their strata instead
+// of sorting them (summarize.Ranker.RankStrata; the ranks are the same).
+// It returns nil, keeping nothing, when d is not a Latin hypercube or has
+// more cases than the Spearman table ranks (its first rows are not one
+// draw per stratum), and costs 4 bytes per case per input otherwise.
+func caseStrata(st *studies.Study, d *sampler.Design) [][]int32 {
+	if d.N() > SpearmanMaxRows {
+		return nil
+	}
+	in, err := summarize.NewInputs(st, d)
+	if err != nil {
+		return nil // the summaries report it
+	}
+	var strata [][]int32
+	for _, l := range in.Leaders {
+		if j := int(l.Param); d.Stratified(j) {
+			if strata == nil {
+				strata = make([][]int32, d.NumParams())
+			}
+			strata[j] = make([]int32, d.N())
+		}
+	}
+	return strata
 }
 
 // newStudyRun applies the defaults of opt and builds st's design.
@@ -307,7 +350,7 @@ func (r *studyRun) end(ok bool) {
 func (r *studyRun) finish(ctx context.Context, start, solved time.Time) error {
 	info := r.info
 	info.Files = []string{CasesFile}
-	if err := writeSummaries(ctx, r.st, r.design, r.stage, r.workers, r.opt, r.mem, info); err != nil {
+	if err := writeSummaries(ctx, r.st, r.design, r.stage, r.workers, r.opt, r.mem, info, r.strata); err != nil {
 		return err
 	}
 	info.SHA256 = make(map[string]string, len(info.Files))
@@ -401,8 +444,10 @@ func swapIn(stage, final string) error {
 // opt.BatchRows cases starting at lo. It returns the count of rejected
 // cases by status and the file's SHA-256 (lower-case hex). Memory is
 // bounded by 2·workers record batches. With a non-nil durable the file's
-// flush to disk is left to it (see atomicFile.CommitTo).
-func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator, durable *errgroup.Group) (map[string]int, string, error) {
+// flush to disk is left to it (see atomicFile.CommitTo). With a non-nil
+// strata (by design column, see caseStrata) the strata of the cases
+// [lo, hi) are written into each non-nil slice.
+func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, path string, lo, hi, workers int, opt Options, mem memory.Allocator, durable *errgroup.Group, strata [][]int32) (map[string]int, string, error) {
 	outs := st.Model().Outputs(st.Report.PVI)
 	params := st.Model().Params() // the parameter columns, in schema order
 	schema := casesSchema(st, outs)
@@ -428,7 +473,11 @@ func writeCases(ctx context.Context, st *studies.Study, design *sampler.Design, 
 	pool := make(chan *worker, workers)
 	lay := newCaseLayout(st, st.Specs())
 	for range workers {
-		pool <- &worker{fill: design.NewFiller(), solver: engine.Solver{Model: st.Model()}, lay: lay}
+		wk := &worker{fill: design.NewFiller(), solver: engine.Solver{Model: st.Model()}, lay: lay, strata: strata}
+		if strata != nil {
+			wk.sub = make([][]int32, len(strata))
+		}
+		pool <- wk
 	}
 	free := make(chan *chunk, 2*workers)
 	for range 2 * workers {

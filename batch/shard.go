@@ -378,7 +378,7 @@ func RunShard(ctx context.Context, st *studies.Study, opt Options) (*ShardManife
 	}
 
 	start := r.now()
-	rejected, sum, err := writeCases(ctx, st, r.design, casesPath, lo, hi, r.workers, r.opt, r.mem, nil)
+	rejected, sum, err := writeCases(ctx, st, r.design, casesPath, lo, hi, r.workers, r.opt, r.mem, nil, nil)
 	if err != nil {
 		return nil, err
 	}

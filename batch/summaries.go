@@ -33,8 +33,9 @@ func sobolSeed(seed uint64) uint64 { return seed*0x9e3779b97f4a7c15 + 0x5b01 }
 
 // writeSummaries computes every summary table from the cases file in dir
 // (in one pass per column, in parallel: see computeCaseStats), writes
-// them, and renders the report.
-func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, dir string, workers int, opt Options, mem memory.Allocator, info *Info) error {
+// them, and renders the report. strata, when not nil, are the design's
+// strata of the cases file's rows by design column (see caseStrata).
+func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, dir string, workers int, opt Options, mem memory.Allocator, info *Info, strata [][]int32) error {
 	casesPath := filepath.Join(dir, CasesFile)
 	conv, err := summarize.ParseConvention(st.Report.Percentiles)
 	if err != nil {
@@ -73,6 +74,14 @@ func writeSummaries(ctx context.Context, st *studies.Study, d *sampler.Design, d
 	plan.level = PercentileLevel
 	plan.summary = outputs
 	plan.spearmanOutputs, plan.spearmanParams = outputs, in.Names()
+	for _, l := range in.Leaders {
+		if j := int(l.Param); j < len(strata) && len(strata[j]) == rows {
+			if plan.strata == nil {
+				plan.strata = map[string][]int32{}
+			}
+			plan.strata[l.Name()] = strata[j]
+		}
+	}
 	done := phase("summaries", plan.numColumns())
 	step := func() {
 		if opt.Progress != nil {
